@@ -1,0 +1,15 @@
+#pragma once
+// Exit statuses of the `zout` client (documented in the README).
+
+namespace zout::cli {
+
+enum ExitCode : int {
+  exit_ok = 0,
+  exit_failure = 1,         // anything not listed below
+  exit_usage = 2,           // bad arguments or a malformed address
+  exit_timeout = 3,         // an instrument did not answer before the deadline
+  exit_link = 4,            // could not open, dropped link, or unreadable reply
+  exit_instrument_error = 5 // the instrument reported entries in its error queue
+};
+
+}  // namespace zout::cli
