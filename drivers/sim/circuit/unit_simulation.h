@@ -1,0 +1,69 @@
+#pragma once
+// One unit on the simulated bench, evolving in simulated time. The bench changes the
+// drive and the load at the present time and advances time as the wall clock moves; the
+// output follows the circuit's own cycle map, so settling after a step is physical.
+
+#include <memory>
+
+#include "drivers/sim/circuit/cascade_circuit.h"
+
+namespace zout::sim {
+
+struct DriveSettings {
+  double frequency_hz = 1000.0;
+  double amplitude_volts_peak = 0.0;
+  double offset_volts = 0.0;
+  bool output_on = false;  // off: the generator output is 0 V behind its output resistance
+};
+
+enum class LoadMode { constant_current, constant_resistance };
+
+struct LoadSettings {
+  LoadMode mode = LoadMode::constant_current;
+  double current_amps = 0.0;
+  double resistance_ohms = 1e9;
+  bool input_on = false;
+  // Below this voltage a CC load cannot hold its current; it then behaves as the resistance
+  // min_operating_volts / current_amps (so the current falls towards zero with the voltage).
+  double min_operating_volts = 2.0;
+};
+
+struct OutputState {
+  double dc_volts = 0.0;            // mean of the output over one drive cycle
+  double ripple_pp_volts = 0.0;     // peak-to-peak of the output over that cycle
+  double ripple_rms_volts = 0.0;    // RMS of (output − mean) over that cycle
+  double load_current_amps = 0.0;   // what the electronic load sinks (cycle mean)
+  double load_voltage_volts = 0.0;  // at the load's terminals (cycle mean)
+};
+
+class UnitSimulation {
+ public:
+  // Starts at time 0 with every capacitor discharged, drive off, load off.
+  explicit UnitSimulation(CascadeCircuit circuit);
+
+  // New settings take effect at time_s(); the output then moves towards the new
+  // periodic steady state along the cycle map.
+  void set_drive(const DriveSettings& drive);
+  void set_load(const LoadSettings& load);
+
+  // Advances simulated time to `time_s` (>= time_s()). Long waits (hours of a soak at tens
+  // of kHz) must cost O(log cycles), not one integration per cycle.
+  void advance_to(double time_s);
+  double time_s() const;
+
+  // The output during the cycle in progress.
+  OutputState output() const;
+  // The periodic steady state the output is heading for under the present settings.
+  OutputState steady_state() const;
+  // Ground truth for tests: seconds from the last set_drive/set_load until the cycle-mean
+  // output stays within tolerance_volts of its final value.
+  double settle_time_s(double tolerance_volts) const;
+
+  const CascadeCircuit& circuit() const;
+
+ private:
+  struct State;
+  std::shared_ptr<State> state_;
+};
+
+}  // namespace zout::sim
