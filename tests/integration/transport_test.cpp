@@ -8,6 +8,7 @@
 #include "drivers/scpi/instrument_error.h"
 #include "drivers/scpi/session.h"
 #include "drivers/transport/io_error.h"
+#include "drivers/transport/serial_ports.h"
 #include "drivers/transport/serial_transport.h"
 #include "drivers/transport/transport_factory.h"
 #include "tests/support/scripted_peer.h"
@@ -236,4 +237,33 @@ TEST_CASE("serial: a port already open elsewhere is reported busy", "[transport]
 TEST_CASE("serial: pseudo-terminal detection", "[transport][serial]") {
   REQUIRE_FALSE(is_pseudo_terminal("/dev/null"));
   REQUIRE_FALSE(is_pseudo_terminal("/nonexistent"));
+}
+
+TEST_CASE("serial: a real port opened through libserialport is locked against a second user",
+          "[transport][serial]") {
+  // Needs a real (non-pty) serial port that libserialport can open, such as a UART the
+  // machine has; machines without one cannot exercise this path and say so.
+  std::string usable;
+  for (const auto& port : list_serial_ports()) {
+    SerialTransport probe(parse_address("serial://" + port.device_path));
+    try {
+      probe.open(deadline_after(500ms));
+      usable = port.device_path;
+      break;
+    } catch (const IoError&) {
+    }
+  }
+  if (usable.empty()) {
+    WARN("no serial port that libserialport can open on this machine; libserialport busy path not exercised");
+    return;
+  }
+  INFO(usable);
+  SerialTransport first(parse_address("serial://" + usable + "?baud=115200&parity=even&stop=2"));
+  first.open(deadline_after(500ms));
+  SerialTransport second(parse_address("serial://" + usable));
+  const IoError e = catch_io_error([&] { second.open(deadline_after(500ms)); });
+  REQUIRE(e.kind() == IoErrorKind::open_failed);
+  REQUIRE_THAT(e.what(), Catch::Contains("is busy"));
+  first.close();
+  REQUIRE_NOTHROW(second.open(deadline_after(500ms)));
 }
