@@ -38,7 +38,8 @@ TEST_CASE("serial address by device path with every setting", "[address]") {
 }
 
 TEST_CASE("serial address defaults are 9600 8N1 without flow control", "[address]") {
-  const auto& s = std::get<SerialEndpoint>(parse_address("serial:///dev/ttyS0").endpoint).settings;
+  const Address a = parse_address("serial:///dev/ttyS0");
+  const auto& s = std::get<SerialEndpoint>(a.endpoint).settings;
   REQUIRE(s.baud == 9600);
   REQUIRE(s.data_bits == 8);
   REQUIRE(s.parity == Parity::none);
