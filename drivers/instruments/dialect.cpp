@@ -67,6 +67,12 @@ const std::vector<RoleRule>& role_rules() {
            {"measure_current", {}, false, ResponseType::number},
            {"measure_voltage", {}, false, ResponseType::number},
        }},
+      {"switch",
+       {
+           {"close_slot", {"slot"}, true, std::nullopt},
+           {"open_all", {}, false, std::nullopt},
+           {"read_closed", {"slot"}, true, ResponseType::boolean},
+       }},
   };
   return rules;
 }
@@ -333,12 +339,12 @@ Dialect Dialect::from_json(const nlohmann::json& document, const std::string& or
   Dialect dialect;
   dialect.origin_ = origin;
 
-  if (!document.contains("role")) check.fail("role", "is missing (source, meter or load)");
-  if (!document["role"].is_string()) check.fail("role", "must be a string: source, meter or load");
+  if (!document.contains("role")) check.fail("role", "is missing (source, meter, load or switch)");
+  if (!document["role"].is_string()) check.fail("role", "must be a string: source, meter, load or switch");
   dialect.role_ = document["role"].get<std::string>();
   const RoleRule* role = find_role(dialect.role_);
   if (role == nullptr) {
-    check.fail("role", fmt::format("unknown role \"{}\"; expected source, meter or load",
+    check.fail("role", fmt::format("unknown role \"{}\"; expected source, meter, load or switch",
                                    dialect.role_));
   }
 

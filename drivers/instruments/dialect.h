@@ -45,7 +45,7 @@ class Dialect {
   // Checks `json` as a dialect; `origin` (usually the file name) starts every error message.
   static Dialect from_json(const nlohmann::json& json, const std::string& origin);
 
-  const std::string& role() const { return role_; }                // "source", "meter" or "load"
+  const std::string& role() const { return role_; }                // "source", "meter", "load" or "switch"
   const std::string& description() const { return description_; }  // free text, may be empty
   const std::string& origin() const { return origin_; }            // where it was loaded from
 

@@ -259,7 +259,7 @@ TEST_CASE("a wrong or missing role is refused", "[dialect]") {
   auto document = meter_json();
   document["role"] = "dmm";
   CHECK(refusal(document) ==
-        "config/dialects/x.json: role: unknown role \"dmm\"; expected source, meter or load");
+        "config/dialects/x.json: role: unknown role \"dmm\"; expected source, meter, load or switch");
 
   document = meter_json();
   document.erase("role");

@@ -20,6 +20,7 @@
 #include "drivers/instruments/scpi_load.h"
 #include "drivers/instruments/scpi_meter.h"
 #include "drivers/instruments/scpi_source.h"
+#include "drivers/instruments/scpi_switch.h"
 #include "drivers/scpi/session.h"
 #include "drivers/transport/io_error.h"
 #include "drivers/transport/transport.h"
@@ -370,4 +371,26 @@ TEST_CASE("an instrument refuses a dialect of another role", "[instruments]") {
                           "\"meter\"");
   CHECK_THROWS_AS(zout::ScpiLoad(link.session, shipped("scpi-source.json")), zout::DialectError);
   CHECK(link.wire->written.empty());
+}
+
+TEST_CASE("switch opens the panel before closing one slot, and reads a slot back", "[instruments]") {
+  Link link("mem://switch");
+  // ROUTe subsystem commands of SCPI-1999 Vol 2 (channel list "(@N)").
+  const auto dialect = Dialect::from_json(nlohmann::json::parse(R"({
+    "role": "switch",
+    "operations": {
+      "close_slot": { "send": ["ROUTe:CLOSe (@{slot})"] },
+      "open_all": { "send": ["ROUTe:OPEN:ALL"] },
+      "read_closed": { "query": "ROUTe:CLOSe? (@{slot})", "response": "boolean" }
+    }
+  })"), "inline-switch");
+  zout::ScpiSwitch panel(link.session, dialect);
+  link.reply({"1", "0"});
+  panel.close_slot(3);
+  CHECK(panel.is_closed(3));
+  CHECK_FALSE(panel.is_closed(4));
+  panel.open_all();
+  CHECK(link.wire->written == Commands{"ROUTe:OPEN:ALL", "ROUTe:CLOSe (@3)", "ROUTe:CLOSe? (@3)",
+                                       "ROUTe:CLOSe? (@4)", "ROUTe:OPEN:ALL"});
+  CHECK_THROWS_WITH(panel.close_slot(0), "switch: slot must be 1 or more, got 0");
 }

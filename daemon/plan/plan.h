@@ -1,0 +1,102 @@
+#pragma once
+// A plan (DESIGN §4): what to do to one unit. Loaded from JSON and checked in full; a
+// plan that loads has every value finite and within physical sense. Whether it fits a
+// given bench's safety maxima is a separate check (safety_check.h).
+
+#include <nlohmann/json.hpp>
+
+#include <optional>
+#include <string>
+#include <vector>
+
+namespace zout {
+
+struct DutSpec {
+  std::string model;                // free text, e.g. "BB5 bias board"
+  int stages = 0;                   // n of the Cockcroft–Walton cascade
+  double capacitance_farads = 0.0;  // nominal capacitance of each stage capacitor
+};
+
+struct DriveSpec {
+  std::string waveform = "sine";    // only sine is supported
+  double frequency_hz = 0.0;
+  double amplitude_volts_peak = 0.0;
+  double offset_volts = 0.0;
+};
+
+enum class LoadStepMode { current, resistance };
+
+struct LoadPlan {
+  LoadStepMode mode = LoadStepMode::current;
+  std::vector<double> steps;        // amps (current mode) or ohms (resistance mode), in order
+  std::optional<double> rated_amps; // the unit's rated load; default: the largest current step
+  double min_operating_volts = 0.0; // not used by zout itself; documented for the load's limits
+};
+
+enum class SettleMethod { fixed, window, predictive };
+
+struct SettleSpec {
+  SettleMethod method = SettleMethod::window;
+  double tolerance_volts = 0.0;     // band the output must stay within
+  double max_s = 0.0;               // give up on a step after this long (the point is then marked)
+  double dwell_s = 0.0;             // fixed: how long to wait
+  int window_readings = 5;          // window: consecutive readings within tolerance
+};
+
+enum class RippleMethod { ac_rms, none };
+
+struct MeasureSpec {
+  double dc_nplc = 1.0;             // integration time in power-line cycles
+  int dc_samples = 3;               // DC readings averaged per point
+  double dc_range_volts = 1000.0;
+  RippleMethod ripple = RippleMethod::ac_rms;
+  double ripple_range_volts = 10.0;
+};
+
+struct ImpedanceSpec {
+  double fit_max_amps = 0.0;              // points up to this current enter the local fit
+  std::optional<double> operating_amps;   // default: the smallest non-zero current step
+};
+
+// Every limit is optional; an absent one is not checked.
+struct PlanLimits {
+  std::optional<double> v_oc_min_volts;
+  std::optional<double> v_oc_max_volts;
+  std::optional<double> z_out_max_ohms;
+  std::optional<double> ripple_pp_max_volts;           // at the rated load
+  std::optional<double> effective_capacitance_min_farads;
+  std::optional<double> diode_drop_max_volts;
+  std::optional<double> v_oc_drift_max_volts_per_hour;  // soak: absolute slope
+  std::optional<double> z_out_drift_max_ohms_per_hour;
+  std::optional<double> ripple_drift_max_volts_per_hour;
+};
+
+struct RepeatSpec {
+  int count = 1;                    // sweeps; more than one makes a soak run
+  double interval_s = 0.0;          // from the start of one sweep to the start of the next
+  int baseline_sweeps = 5;          // sweeps that set the control band (mean ± band_sigma·σ)
+  double band_sigma = 3.0;
+  bool fail_on_drift_alarm = false; // a drift alarm ends the run failed
+};
+
+struct Plan {
+  std::string name;
+  DutSpec dut;
+  DriveSpec source;
+  LoadPlan load;
+  SettleSpec settle;
+  MeasureSpec measure;
+  ImpedanceSpec impedance;
+  PlanLimits limits;
+  RepeatSpec repeat;
+  std::string canonical_json;       // the plan as stored (compact, keys sorted)
+
+  bool is_soak() const { return repeat.count > 1; }
+};
+
+// Loads and checks a plan file; throws ConfigError naming the file, JSON path and rule.
+Plan load_plan_file(const std::string& file_path);
+// The same for a plan given inline (over the control socket); `origin` names it in errors.
+Plan parse_plan(const nlohmann::json& document, const std::string& origin);
+
+}  // namespace zout
