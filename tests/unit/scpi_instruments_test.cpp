@@ -376,14 +376,14 @@ TEST_CASE("an instrument refuses a dialect of another role", "[instruments]") {
 TEST_CASE("switch opens the panel before closing one slot, and reads a slot back", "[instruments]") {
   Link link("mem://switch");
   // ROUTe subsystem commands of SCPI-1999 Vol 2 (channel list "(@N)").
-  const auto dialect = Dialect::from_json(nlohmann::json::parse(R"({
+  const auto dialect = Dialect::from_json(nlohmann::json::parse(R"json({
     "role": "switch",
     "operations": {
       "close_slot": { "send": ["ROUTe:CLOSe (@{slot})"] },
       "open_all": { "send": ["ROUTe:OPEN:ALL"] },
       "read_closed": { "query": "ROUTe:CLOSe? (@{slot})", "response": "boolean" }
     }
-  })"), "inline-switch");
+  })json"), "inline-switch");
   zout::ScpiSwitch panel(link.session, dialect);
   link.reply({"1", "0"});
   panel.close_slot(3);
