@@ -149,7 +149,9 @@ TEST_CASE("each role lists its required operations and placeholders", "[dialect]
                                  "read_many"});
   CHECK(Dialect::required_operations("source").size() == 10);
   CHECK(Dialect::required_operations("load").size() == 8);
-  CHECK(Dialect::required_operations("switch").empty());
+  CHECK(Dialect::required_operations("switch") ==
+        std::vector<std::string>{"close_slot", "open_all", "read_closed"});
+  CHECK(Dialect::required_operations("scope").empty());
   CHECK(Dialect::allowed_placeholders("source", "set_amplitude") ==
         std::vector<std::string>{"amplitude_volts_peak", "amplitude_volts_pp",
                                  "amplitude_volts_rms"});
@@ -263,7 +265,7 @@ TEST_CASE("a wrong or missing role is refused", "[dialect]") {
 
   document = meter_json();
   document.erase("role");
-  CHECK(refusal(document) == "config/dialects/x.json: role: is missing (source, meter or load)");
+  CHECK(refusal(document) == "config/dialects/x.json: role: is missing (source, meter, load or switch)");
 
   // A load's operations under role meter: the first one met is unknown to a meter.
   document = load_json();
