@@ -9,7 +9,8 @@ enum ExitCode : int {
   exit_usage = 2,           // bad arguments or a malformed address
   exit_timeout = 3,         // an instrument did not answer before the deadline
   exit_link = 4,            // could not open, dropped link, or unreadable reply
-  exit_instrument_error = 5 // the instrument reported entries in its error queue
+  exit_instrument_error = 5, // the instrument reported entries in its error queue
+  exit_query_timeout = 6    // zout query: the statement ran past --timeout-ms and was stopped
 };
 
 }  // namespace zout::cli

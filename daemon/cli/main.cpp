@@ -4,6 +4,7 @@
 
 #include "daemon/cli/exit_codes.h"
 #include "daemon/cli/ports_command.h"
+#include "daemon/cli/query_command.h"
 #include "daemon/cli/scpi_command.h"
 
 int main(int argc, char** argv) {
@@ -12,6 +13,7 @@ int main(int argc, char** argv) {
   int exit_code = zout::cli::exit_ok;
   zout::cli::add_scpi_command(app, exit_code);
   zout::cli::add_ports_command(app, exit_code);
+  zout::cli::add_query_command(app, exit_code);
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {

@@ -37,7 +37,23 @@ std::string Session::query(std::string_view command, std::chrono::milliseconds t
   }
 }
 
-Identity Session::identify() { return parse_identity(query("*IDN?")); }
+namespace {
+
+// Runs a parser on a reply, naming the instrument and the query when the reply is malformed.
+template <typename Parse>
+auto parse_reply(const std::string& address, const char* query, const std::string& reply, Parse parse) {
+  try {
+    return parse(reply);
+  } catch (const IoError& e) {
+    throw IoError(e.kind(), fmt::format("{}: {} (query \"{}\")", address, e.what(), query));
+  }
+}
+
+}  // namespace
+
+Identity Session::identify() {
+  return parse_reply(address(), "*IDN?", query("*IDN?"), [](const std::string& r) { return parse_identity(r); });
+}
 
 void Session::clear_status() { write("*CLS"); }
 
@@ -55,7 +71,8 @@ void Session::wait_complete(std::chrono::milliseconds timeout) {
 std::vector<ErrorEntry> Session::drain_errors(int max_entries) {
   std::vector<ErrorEntry> entries;
   for (int i = 0; i < max_entries; ++i) {
-    ErrorEntry entry = parse_error_entry(query("SYSTem:ERRor?"));
+    ErrorEntry entry = parse_reply(address(), "SYSTem:ERRor?", query("SYSTem:ERRor?"),
+                                   [](const std::string& r) { return parse_error_entry(r); });
     if (entry.is_no_error()) return entries;
     entries.push_back(std::move(entry));
   }

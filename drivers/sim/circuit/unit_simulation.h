@@ -3,9 +3,11 @@
 // drive and the load at the present time and advances time as the wall clock moves; the
 // output follows the circuit's own cycle map, so settling after a step is physical.
 
+#include <cstdint>
 #include <memory>
 
 #include "drivers/sim/circuit/cascade_circuit.h"
+#include "drivers/sim/circuit/integration_options.h"
 
 namespace zout::sim {
 
@@ -28,6 +30,15 @@ struct LoadSettings {
   double min_operating_volts = 2.0;
 };
 
+// Work done by a UnitSimulation so far: counts, never wall time (for tests and benchmarks).
+struct SimulationCounters {
+  std::uint64_t cycle_integrations = 0;  // one-period (or partial-period) integrations
+  std::uint64_t time_steps = 0;          // implicit time steps inside those
+  std::uint64_t newton_iterations = 0;   // Newton iterations of the node equations
+  std::uint64_t steady_state_solves = 0; // periodic steady states computed (not taken from cache)
+  std::uint64_t transient_waypoints = 0; // states of the transient computed by integrating a cycle
+};
+
 struct OutputState {
   double dc_volts = 0.0;            // mean of the output over one drive cycle
   double ripple_pp_volts = 0.0;     // peak-to-peak of the output over that cycle
@@ -36,10 +47,14 @@ struct OutputState {
   double load_voltage_volts = 0.0;  // at the load's terminals (cycle mean)
 };
 
+// Every public function takes an internal lock, so one object may be used from several
+// threads; copies share one state. Throws std::invalid_argument for an invalid circuit,
+// invalid settings, or a time before time_s(). How it works: drivers/sim/circuit/README.md.
 class UnitSimulation {
  public:
   // Starts at time 0 with every capacitor discharged, drive off, load off.
   explicit UnitSimulation(CascadeCircuit circuit);
+  UnitSimulation(CascadeCircuit circuit, const IntegrationOptions& options);
 
   // New settings take effect at time_s(); the output then moves towards the new
   // periodic steady state along the cycle map.
@@ -56,10 +71,13 @@ class UnitSimulation {
   // The periodic steady state the output is heading for under the present settings.
   OutputState steady_state() const;
   // Ground truth for tests: seconds from the last set_drive/set_load until the cycle-mean
-  // output stays within tolerance_volts of its final value.
+  // output stays within tolerance_volts of its final value. Cycle k (counted from the change)
+  // has mean dc_k; the answer is K/f for the first K after which every |dc_k − dc_final| <
+  // tolerance_volts (0 when already within), infinity when the output never settles.
   double settle_time_s(double tolerance_volts) const;
 
   const CascadeCircuit& circuit() const;
+  SimulationCounters counters() const;
 
  private:
   struct State;
