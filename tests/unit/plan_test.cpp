@@ -177,3 +177,17 @@ TEST_CASE("a plan over the bench's safety maxima is refused with every reason", 
   plan.source.offset_volts = -3.0;  // 2.5 + 3 = 5.5 V peak drive
   REQUIRE_THAT(safety_violations(plan, safety).at(0), Contains("drive 5.5 V peak") && Contains("max_source_volts_peak 5 V"));
 }
+
+TEST_CASE("the shipped bench and plans load and the plans are safe on the simulated bench", "[plan]") {
+  const std::string config = std::string(ZOUT_SOURCE_DIR) + "/config/";
+  const BenchConfig bench = load_bench_file(config + "bench.sim.json");
+  REQUIRE(bench.panel_switch.has_value());
+  REQUIRE(bench.meter.address == "tcp://127.0.0.1:5602");
+  const Plan production = load_plan_file(config + "plans/bias-board-production.json");
+  REQUIRE(production.load.steps.size() == 11);
+  REQUIRE_FALSE(production.is_soak());
+  REQUIRE_NOTHROW(require_safe(production, bench.safety, "production"));
+  const Plan soak = load_plan_file(config + "plans/bias-board-soak.json");
+  REQUIRE(soak.is_soak());
+  REQUIRE_NOTHROW(require_safe(soak, bench.safety, "soak"));
+}
