@@ -75,9 +75,13 @@ SimProcess::SimProcess(const std::vector<std::string>& argv, std::chrono::millis
 
 SimProcess::~SimProcess() {
   if (running_) {
-    ::kill(pid_, SIGKILL);
-    int status = 0;
-    ::waitpid(pid_, &status, 0);
+    // SIGTERM first, so the program can clean up (zout-sim removes its pty links); SIGKILL
+    // when it has not gone within two seconds.
+    try {
+      terminate(SIGTERM, std::chrono::milliseconds(2000));
+    } catch (const std::exception&) {
+      // terminate() has killed it.
+    }
   }
   if (out_fd_ >= 0) ::close(out_fd_);
 }

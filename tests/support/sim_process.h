@@ -1,7 +1,7 @@
 #pragma once
 // Runs a long-lived server program (zout-sim) for integration tests: starts it, waits for the
 // first line it prints on stdout (its ready line), and keeps it running until terminate() or
-// destruction (which kills it). Its stderr goes to the test's stderr.
+// destruction (SIGTERM, then SIGKILL after two seconds). Its stderr goes to the test's stderr.
 
 #include <sys/types.h>
 

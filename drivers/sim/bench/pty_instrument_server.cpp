@@ -9,6 +9,8 @@
 #include <cstdio>
 #include <system_error>
 
+#include "asio_link_stream.h"
+
 namespace zout::sim {
 
 namespace {

@@ -6,19 +6,15 @@
 
 #include <cstdint>
 #include <optional>
-#include <stdexcept>
 #include <string>
 #include <string_view>
 #include <vector>
 
 #include <nlohmann/json_fwd.hpp>
 
-namespace zout::sim {
+#include "sim_config_error.h"
 
-class SimConfigError : public std::runtime_error {
- public:
-  using std::runtime_error::runtime_error;
-};
+namespace zout::sim {
 
 // A defect some units carry, so a batch has failures.
 enum class UnitFault {

@@ -1,5 +1,7 @@
 #include "tcp_instrument_server.h"
 
+#include "asio_link_stream.h"
+
 namespace zout::sim {
 
 TcpInstrumentServer::TcpInstrumentServer(asio::io_context& io, ScpiInstrument& instrument, const SimClock& clock,

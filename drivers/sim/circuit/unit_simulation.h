@@ -27,6 +27,9 @@ struct LoadSettings {
   bool input_on = false;
   // Below this voltage a CC load cannot hold its current; it then behaves as the resistance
   // min_operating_volts / current_amps (so the current falls towards zero with the voltage).
+  // Exactly: the current is held from 1.05·min_operating_volts up, the resistance applies below
+  // 0.95·min_operating_volts, and a quadratic with a continuous slope joins them (load_current()
+  // in cycle_map.h), so the circuit's Newton iterations stay well-posed.
   double min_operating_volts = 2.0;
 };
 
