@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 
 #include <cmath>
+#include <future>
 #include <numeric>
 
 #include "daemon/analysis/ripple.h"
@@ -81,8 +82,32 @@ MeasuredPoint PointMeasurer::measure(int step_index, std::chrono::steady_clock::
     break;
   }
 
-  // The point's DC value: the plan's samples, back to back.
+  // The load's own view of the settled step, read while the DMM integrates its samples: the
+  // two instruments sit on separate links, and the readings are then simultaneous as well.
+  struct LoadView {
+    double amps = 0.0;
+    WallTime amps_at;
+    double volts = 0.0;
+    WallTime volts_at;
+  };
   check_abort();
+  auto load_view = std::async(std::launch::async, [this] {
+    LoadView view;
+    view.amps = bench_.load().measure_current_amps();
+    view.amps_at = std::chrono::system_clock::now();
+    view.volts = bench_.load().measure_voltage_volts();
+    view.volts_at = std::chrono::system_clock::now();
+    return view;
+  });
+  // Whatever happens to the meter, the load's link is idle again before this returns.
+  struct JoinOnExit {
+    std::future<LoadView>& future;
+    ~JoinOnExit() {
+      if (future.valid()) future.wait();
+    }
+  } join_on_exit{load_view};
+
+  // The point's DC value: the plan's samples, back to back.
   const auto samples = bench_.meter().read_many(plan_.measure.dc_samples);
   std::vector<double> volts;
   for (const auto& sample : samples) {
@@ -97,9 +122,10 @@ MeasuredPoint PointMeasurer::measure(int step_index, std::chrono::steady_clock::
     point.dc_sigma_volts = std::sqrt(sum_sq / (n - 1.0)) / std::sqrt(n);
   }
 
-  // Ripple: true RMS on AC volts; the next step's settling switches the meter back to DC
-  // while the output is still moving, so the switch costs no extra waiting.
-  if (plan_.measure.ripple == RippleMethod::ac_rms) {
+  // Ripple: true RMS on AC volts, at the steps the plan asks for; the next step's settling
+  // switches the meter back to DC while the output is still moving, so the switch costs no
+  // extra waiting.
+  if (plan_.reads_ripple_at(static_cast<std::size_t>(step_index))) {
     check_abort();
     bench_.meter().configure_ac_volts(plan_.measure.ripple_range_volts);
     meter_on_dc_ = false;
@@ -112,11 +138,11 @@ MeasuredPoint PointMeasurer::measure(int step_index, std::chrono::steady_clock::
     // An AC overload only means the ripple range was too small: the point keeps no ripple.
   }
 
-  // The load's own view of the step.
-  point.load_amps = bench_.load().measure_current_amps();
-  point.readings.push_back({"load", "load_amps", point.load_amps, std::chrono::system_clock::now()});
-  point.load_volts = bench_.load().measure_voltage_volts();
-  point.readings.push_back({"load", "load_volts", point.load_volts, std::chrono::system_clock::now()});
+  const LoadView view = load_view.get();
+  point.load_amps = view.amps;
+  point.readings.push_back({"load", "load_amps", view.amps, view.amps_at});
+  point.load_volts = view.volts;
+  point.readings.push_back({"load", "load_volts", view.volts, view.volts_at});
   if (std::abs(point.load_volts) > safety_.max_output_volts) {
     throw SafetyTrip(fmt::format("load: voltage reading {:g} V is above safety.max_output_volts {:g} V",
                                  point.load_volts, safety_.max_output_volts));

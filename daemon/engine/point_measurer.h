@@ -1,8 +1,10 @@
 #pragma once
 // Takes one settled point: after the engine has set the load for a step, reads the DMM
 // until the plan's settling detector is satisfied (or max_s passes), then takes the DC
-// samples, the ripple (AC RMS) and the load's own current and voltage. Every raw value is
-// kept for the store. Every DC reading is checked against the bench's safety maximum.
+// samples with the load's own current and voltage read meanwhile (on the load's link), and the
+// ripple (AC RMS) at the steps the plan asks for. Every raw value is kept for the store. Every
+// DC reading is checked against the bench's safety maximum. The DMM stays on DC volts between
+// points unless a ripple reading took it to AC.
 
 #include <chrono>
 #include <functional>

@@ -73,13 +73,13 @@ void RunExecutor::wait_or_abort(std::chrono::duration<double> wait) {
   }
 }
 
-void RunExecutor::configure_bench(const Plan& plan, std::int64_t run_id) {
+void RunExecutor::configure_bench(const Plan& plan, std::int64_t run_id, PointMeasurer& measurer) {
   Source& source = s_.bench.source();
   source.select_sine();
   source.set_frequency_hz(plan.source.frequency_hz);
   source.set_amplitude_volts_peak(plan.source.amplitude_volts_peak);
   source.set_offset_volts(plan.source.offset_volts);
-  s_.bench.meter().configure_dc_volts(plan.measure.dc_range_volts, plan.measure.dc_nplc);
+  measurer.configure_meter();
   s_.bench.load().select_mode(plan.load.mode == LoadStepMode::current ? LoadMode::constant_current
                                                                       : LoadMode::constant_resistance);
   // Error-queue entries after configuring mean a setting was not taken: the run cannot trust
@@ -108,8 +108,7 @@ void RunExecutor::recover(const RunTicket& ticket, PointMeasurer& measurer, std:
   wait_or_abort(backoff[std::min<std::size_t>(static_cast<std::size_t>(attempt), backoff.size() - 1)]);
   for (const auto& role : s_.bench.roles()) s_.bench.reconnect(role);
   if (ticket.slot && s_.bench.panel_switch()) s_.bench.panel_switch()->close_slot(*ticket.slot);
-  configure_bench(ticket.plan, ticket.run_id);
-  measurer.configure_meter();
+  configure_bench(ticket.plan, ticket.run_id, measurer);
   s_.bench.source().set_output(true);
   apply_step(ticket.plan, step_index);
   s_.bench.load().set_input(true);
@@ -118,11 +117,12 @@ void RunExecutor::recover(const RunTicket& ticket, PointMeasurer& measurer, std:
 }
 
 MeasuredPoint RunExecutor::measure_with_recovery(const RunTicket& ticket, PointMeasurer& measurer,
-                                                 std::size_t step_index, int& failures_left) {
+                                                 std::size_t step_index, int& failures_left, bool step_applied) {
   int attempt = 0;
   for (;;) {
     try {
-      apply_step(ticket.plan, step_index);
+      if (!step_applied) apply_step(ticket.plan, step_index);
+      step_applied = false;  // a repeat after recovery: recover() has set it
       return measurer.measure(static_cast<int>(step_index), std::chrono::steady_clock::now(), now());
     } catch (const IoError& e) {
       event(EventLevel::warning, "engine", io_event_code(e), e.what(), ticket.run_id);
@@ -167,8 +167,7 @@ RunState RunExecutor::execute(const RunTicket& ticket) {
     // Setting up is recovered like a step: a fault while configuring reconnects and retries.
     for (int attempt = 0;; ++attempt) {
       try {
-        configure_bench(plan, run_id);
-        measurer.configure_meter();
+        configure_bench(plan, run_id, measurer);
         s_.bench.source().set_output(true);
         apply_step(plan, 0);
         s_.bench.load().set_input(true);
@@ -201,7 +200,9 @@ RunState RunExecutor::execute(const RunTicket& ticket) {
           p.sweep_index = sweep_index;
           p.step_index = static_cast<int>(step);
         });
-        MeasuredPoint point = measure_with_recovery(ticket, measurer, step, failures_left);
+        // The first step of the first sweep was set before the load input went on.
+        const bool step_applied = sweep_index == 0 && step == 0;
+        MeasuredPoint point = measure_with_recovery(ticket, measurer, step, failures_left, step_applied);
         store::PointRecord record;
         record.sweep_id = sweep_id;
         record.step_index = static_cast<int>(step);

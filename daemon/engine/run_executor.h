@@ -54,10 +54,14 @@ class RunExecutor {
              const std::string& message, std::optional<std::int64_t> run_id) {
     s_.events.record(level, source, code, message, run_id);
   }
-  void configure_bench(const Plan& plan, std::int64_t run_id);
+  // Source, meter (through the measurer) and load mode, then the error queues: entries there
+  // throw InstrumentError.
+  void configure_bench(const Plan& plan, std::int64_t run_id, PointMeasurer& measurer);
   void apply_step(const Plan& plan, std::size_t step_index);
+  // Sets the step's load (unless `step_applied`: already set) and measures its point; on an
+  // I/O fault reconnects, reconfigures and repeats the step within the budgets.
   MeasuredPoint measure_with_recovery(const RunTicket& ticket, PointMeasurer& measurer, std::size_t step_index,
-                                      int& failures_left);
+                                      int& failures_left, bool step_applied);
   void recover(const RunTicket& ticket, PointMeasurer& measurer, std::size_t step_index, int attempt);
   void set_state(std::int64_t run_id, store::RunState state, const std::string& reason);
   void wait_or_abort(std::chrono::duration<double> wait);

@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <cmath>
 
 #include "daemon/plan/json_reader.h"
 
@@ -84,6 +85,10 @@ MeasureSpec read_measure(JsonReader node) {
       measure.ripple = method->choice({"ac_rms", "none"}) == "ac_rms" ? RippleMethod::ac_rms : RippleMethod::none;
     }
     if (auto range = ripple->optional_member("range_volts")) measure.ripple_range_volts = range->number(1e-3, 1e6);
+    if (auto at = ripple->optional_member("at")) {
+      measure.ripple_at =
+          at->choice({"every_step", "rated_step"}) == "rated_step" ? RippleSteps::rated_step : RippleSteps::every_step;
+    }
     ripple->refuse_unknown_keys();
   }
   node.refuse_unknown_keys();
@@ -156,8 +161,31 @@ Plan parse_plan(const nlohmann::json& document, const std::string& origin) {
     root.member("repeat").member("baseline_sweeps").fail(fmt::format(
         "{} is more than repeat.count {}", plan.repeat.baseline_sweeps, plan.repeat.count));
   }
+  if (plan.measure.ripple_at == RippleSteps::rated_step && !plan.rated_step_index()) {
+    root.member("measure").member("ripple").member("at").fail(
+        "\"rated_step\" needs load.mode \"current\" and a step within 5% of the rated load (load.rated_amps, "
+        "default the largest step)");
+  }
   plan.canonical_json = document.dump();  // nlohmann's object keys are sorted: a stable form
   return plan;
+}
+
+std::optional<std::size_t> Plan::rated_step_index() const {
+  if (load.mode != LoadStepMode::current || load.steps.empty()) return std::nullopt;
+  const double rated = load.rated_amps.value_or(*std::max_element(load.steps.begin(), load.steps.end()));
+  std::size_t nearest = 0;
+  for (std::size_t i = 1; i < load.steps.size(); ++i) {
+    if (std::abs(load.steps[i] - rated) < std::abs(load.steps[nearest] - rated)) nearest = i;
+  }
+  if (!(rated > 0.0) || std::abs(load.steps[nearest] - rated) > 0.05 * rated) return std::nullopt;
+  return nearest;
+}
+
+bool Plan::reads_ripple_at(std::size_t step_index) const {
+  if (measure.ripple != RippleMethod::ac_rms) return false;
+  if (measure.ripple_at == RippleSteps::every_step) return true;
+  const auto rated = rated_step_index();
+  return rated && load.steps[step_index] == load.steps[*rated];
 }
 
 Plan load_plan_file(const std::string& file_path) {

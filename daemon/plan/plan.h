@@ -44,6 +44,9 @@ struct SettleSpec {
 };
 
 enum class RippleMethod { ac_rms, none };
+// Where the ripple is read: every step (the ripple-against-load curve), or only at the rated
+// step (what the ripple limit and soak drift use; spares the DMM two function switches a step).
+enum class RippleSteps { every_step, rated_step };
 
 struct MeasureSpec {
   double dc_nplc = 1.0;             // integration time in power-line cycles
@@ -51,6 +54,7 @@ struct MeasureSpec {
   double dc_range_volts = 1000.0;
   RippleMethod ripple = RippleMethod::ac_rms;
   double ripple_range_volts = 10.0;
+  RippleSteps ripple_at = RippleSteps::every_step;
 };
 
 struct ImpedanceSpec {
@@ -92,6 +96,11 @@ struct Plan {
   std::string canonical_json;       // the plan as stored (compact, keys sorted)
 
   bool is_soak() const { return repeat.count > 1; }
+  // The step of the rated load, as the analysis takes it: in current mode, the step nearest
+  // load.rated_amps (default the largest step) when within 5% of it; nothing otherwise.
+  std::optional<std::size_t> rated_step_index() const;
+  // Whether the point of load step `step_index` takes a ripple reading.
+  bool reads_ripple_at(std::size_t step_index) const;
 };
 
 // Loads and checks a plan file; throws ConfigError naming the file, JSON path and rule.

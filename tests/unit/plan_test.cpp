@@ -113,6 +113,39 @@ TEST_CASE("plan refusals name the file, the JSON path and the rule", "[plan]") {
   REQUIRE_THAT(refused([](json& p) { p["extra"] = 1; }), Contains("plan.extra: unknown key"));
 }
 
+TEST_CASE("ripple is read at every step, or only at the rated step when the plan says so", "[plan]") {
+  json document = good_plan();
+  const Plan every = parse_plan(document, "p.json");
+  REQUIRE(every.measure.ripple_at == RippleSteps::every_step);
+  for (std::size_t i = 0; i < every.load.steps.size(); ++i) REQUIRE(every.reads_ripple_at(i));
+
+  // rated_amps absent: the rated step is the largest (index 4).
+  document["measure"]["ripple"]["at"] = "rated_step";
+  const Plan largest = parse_plan(document, "p.json");
+  REQUIRE(largest.rated_step_index() == std::optional<std::size_t>(4));
+  REQUIRE(largest.reads_ripple_at(4));
+  REQUIRE_FALSE(largest.reads_ripple_at(0));
+  REQUIRE_FALSE(largest.reads_ripple_at(3));
+
+  // Within 5% of rated_amps counts as the rated step (the analysis's own rule).
+  document["load"]["rated_amps"] = 2.08e-5;
+  const Plan near = parse_plan(document, "p.json");
+  REQUIRE(near.rated_step_index() == std::optional<std::size_t>(2));
+  REQUIRE(near.reads_ripple_at(2));
+  REQUIRE_FALSE(near.reads_ripple_at(4));
+
+  document["load"]["rated_amps"] = 3e-5;
+  REQUIRE_THROWS_WITH(parse_plan(document, "p.json"),
+                      Contains("p.json: plan.measure.ripple.at: \"rated_step\" needs load.mode \"current\" and a step "
+                               "within 5% of the rated load"));
+  document["load"].erase("rated_amps");
+  document["measure"]["ripple"]["method"] = "none";
+  const Plan none = parse_plan(document, "p.json");
+  REQUIRE_FALSE(none.reads_ripple_at(4));
+  document["measure"]["ripple"]["at"] = "sometimes";
+  REQUIRE_THROWS_WITH(parse_plan(document, "p.json"), Contains("allowed: every_step, rated_step"));
+}
+
 TEST_CASE("a plan file that is not JSON names the file and the position", "[plan]") {
   const std::string path = write_file("broken.json", "{ \"name\": \"x\", }");
   REQUIRE_THROWS_WITH(load_plan_file(path), Contains(path) && Contains("not valid JSON") && Contains("column"));

@@ -295,6 +295,28 @@ TEST_CASE("sim circuit: settle time after a load step is the cycle map's own", "
   CHECK(std::abs(sim.output().dc_volts - final_dc) < tol);
 }
 
+TEST_CASE("sim circuit: the slowest time constant is the decay rate of the settling tail", "[sim-circuit]") {
+  const CascadeCircuit circuit = CascadeCircuit::uniform(3, 1e-6);
+  UnitSimulation sim(circuit);
+  sim.set_load(cc_load(100e-6));
+  sim.set_drive(drive(10.0));
+  sim.advance_to(2.0);
+  sim.set_load(cc_load(1e-3));
+  const double tau = sim.slowest_time_constant_s();
+  const double final_dc = sim.steady_state().dc_volts;
+
+  // Brute force: the late tail of |dc_k − dc_final| shrinks by exp(−Δk·T/τ).
+  CycleMap map(circuit, drive(10.0), cc_load(1e-3));
+  const PeriodicSolution before = solve_periodic_steady_state(circuit, drive(10.0), cc_load(100e-6));
+  const std::vector<double> dc = brute_force_dc(map, as_vector(before.state_volts), 400);
+  const double early = std::abs(dc[150] - final_dc);
+  const double late = std::abs(dc[250] - final_dc);
+  REQUIRE(late > 1e-9);
+  const double tail_tau = (100.0 / 1000.0) / std::log(early / late);
+  CHECK(tau == Approx(tail_tau).epsilon(0.05));
+  CHECK(tau > 0.005);
+}
+
 TEST_CASE("sim circuit: a long advance costs O(log cycles)", "[sim-circuit]") {
   UnitSimulation sim(CascadeCircuit::uniform(3, 10e-9));
   sim.set_load(cc_load(20e-6));

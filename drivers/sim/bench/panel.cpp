@@ -105,4 +105,9 @@ std::optional<double> Panel::settle_time_s(double tolerance_volts, double now_s)
   return std::nullopt;
 }
 
+std::optional<double> Panel::time_constant_s(double now_s) {
+  if (auto* simulation = connected(now_s)) return simulation->slowest_time_constant_s();
+  return std::nullopt;
+}
+
 }  // namespace zout::sim

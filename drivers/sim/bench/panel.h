@@ -47,10 +47,12 @@ class Panel : public Fixture {
   std::optional<UnitInfo> unit(int slot) const;
 
   // Ground truth of the connected unit (std::nullopt when the output is open): where the
-  // output is heading under the present settings, and the true settle time of the last
-  // settings change to `tolerance_volts`.
+  // output is heading under the present settings, the true settle time of the last
+  // settings change to `tolerance_volts`, and the slowest time constant.
   std::optional<OutputState> steady_state(double now_s);
   std::optional<double> settle_time_s(double tolerance_volts, double now_s);
+  // The slowest time constant of the connected unit's approach to that steady state.
+  std::optional<double> time_constant_s(double now_s);
 
   const DriveSettings& drive() const { return drive_; }
   const LoadSettings& load() const { return load_; }

@@ -140,6 +140,8 @@ json SimBench::truth(const json& request) {
   out["output"] = output_json(panel_.output(now_s));
   const auto steady = panel_.steady_state(now_s);
   out["steady_state"] = steady ? output_json(*steady) : json(nullptr);
+  const auto time_constant = panel_.time_constant_s(now_s);
+  out["time_constant_s"] = time_constant && std::isfinite(*time_constant) ? json(*time_constant) : json(nullptr);
   if (request.contains("tolerance_volts")) {
     const json& value = request.at("tolerance_volts");
     if (!value.is_number() || !(value.get<double>() > 0.0) || !std::isfinite(value.get<double>())) {

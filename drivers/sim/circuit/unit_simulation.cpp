@@ -468,6 +468,16 @@ double UnitSimulation::settle_time_s(double tolerance_volts) const {
   return state_->settle_time(tolerance_volts);
 }
 
+double UnitSimulation::slowest_time_constant_s() const {
+  std::lock_guard lock(state_->mutex);
+  const auto& steady = state_->steady();
+  if (steady.m.size() == 0) return 0.0;
+  const double radius = Eigen::EigenSolver<Eigen::MatrixXd>(steady.m, false).eigenvalues().cwiseAbs().maxCoeff();
+  if (!(radius < 1.0)) return std::numeric_limits<double>::infinity();
+  if (radius <= 0.0) return 0.0;
+  return -state_->period() / std::log(radius);
+}
+
 const CascadeCircuit& UnitSimulation::circuit() const { return state_->circuit; }
 
 SimulationCounters UnitSimulation::counters() const {

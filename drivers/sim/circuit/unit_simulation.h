@@ -78,6 +78,10 @@ class UnitSimulation {
   // has mean dc_k; the answer is K/f for the first K after which every |dc_k − dc_final| <
   // tolerance_volts (0 when already within), infinity when the output never settles.
   double settle_time_s(double tolerance_volts) const;
+  // Ground truth for benchmarks: the slowest time constant of the output's approach to the
+  // present steady state, −T / ln ρ(M*), with ρ(M*) the spectral radius of the one-cycle
+  // map's Jacobian at the steady state and T the drive period; infinity when ρ ≥ 1.
+  double slowest_time_constant_s() const;
 
   const CascadeCircuit& circuit() const;
   SimulationCounters counters() const;
