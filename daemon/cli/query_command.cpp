@@ -8,6 +8,7 @@
 #include <iostream>
 #include <memory>
 
+#include "daemon/cli/client_paths.h"
 #include "daemon/cli/exit_codes.h"
 #include "daemon/cli/text_table.h"
 #include "daemon/store/store_error.h"
@@ -15,11 +16,9 @@
 namespace zout::cli {
 namespace {
 
-constexpr const char* default_database = "var/zout.db";
-
 struct QueryOptions {
   std::string sql;
-  std::string database;
+  ClientPaths paths;
   std::string format = "table";
   int timeout_ms = 10000;
 };
@@ -61,15 +60,14 @@ std::string table_cell(const store::QueryValue& value) {
   return out;
 }
 
-std::string database_path(const QueryOptions& options) {
-  if (!options.database.empty()) return options.database;
-  const char* from_environment = std::getenv("ZOUT_DB");
-  if (from_environment != nullptr && *from_environment != '\0') return from_environment;
-  return default_database;
-}
-
 int run_query(const QueryOptions& options) {
-  const std::string path = database_path(options);
+  std::string path;
+  try {
+    path = options.paths.database_path();
+  } catch (const std::exception& e) {
+    std::cerr << "zout query: " << e.what() << "\n";
+    return exit_usage;
+  }
   std::vector<std::string> names;
   std::unique_ptr<TextTable> table;
   bool first_row = true;
@@ -110,7 +108,7 @@ int run_query(const QueryOptions& options) {
     std::cout.flush();
     std::cerr << "zout query: " << e.what() << "\n";
     if (e.kind() == store::StoreError::Kind::failure && !std::filesystem::exists(path)) {
-      std::cerr << "zout query: choose the database with --db FILE or the ZOUT_DB environment variable\n";
+      std::cerr << "zout query: choose the database with --db FILE, the ZOUT_DB environment variable or --bench FILE\n";
     }
     switch (e.kind()) {
       case store::StoreError::Kind::refused:
@@ -156,8 +154,7 @@ void add_query_command(CLI::App& app, int& exit_code) {
   auto* verb = app.add_subcommand("query", "Run one read-only SQL statement against the test history");
   verb->add_option("sql", options->sql, "One SQL statement, e.g. \"SELECT * FROM run_summary WHERE day = '2026-12-01'\"")
       ->required();
-  verb->add_option("--db", options->database,
-                   fmt::format("Database file (default: $ZOUT_DB, else {})", default_database));
+  options->paths.add_options(*verb, false, true);
   verb->add_option("--format", options->format, "Output: table (aligned), csv (RFC 4180) or json (array of objects)")
       ->default_val("table")
       ->check(CLI::IsMember({"table", "csv", "json"}));

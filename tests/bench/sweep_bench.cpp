@@ -175,6 +175,7 @@ struct TimedRun {
   double wall_s = 0.0;                 // from `running` to the final state
   std::vector<double> step_s;          // from one point to the next (the first: from `running`)
   std::vector<double> settle_s;        // the detector's own settle time per point
+  std::vector<double> dc_volts;        // each point's DC value
 };
 
 // Runs `plan` on one unit and follows it to the end. `on_sweep` sees each sweep.result.
@@ -205,6 +206,7 @@ TimedRun timed_run(Daemon& daemon, const json& plan, const json& unit, int slot,
     } else if (method == "point") {
       run.step_s.push_back(seconds(now - last));
       run.settle_s.push_back(p.at("settle_s").get<double>());
+      run.dc_volts.push_back(p.at("dc_volts").get<double>());
       last = now;
     } else if (method == "sweep.result" && on_sweep) {
       on_sweep(p);
@@ -227,7 +229,7 @@ int main(int argc, char** argv) {
   std::string sim_config = std::string(ZOUT_SOURCE_DIR) + "/config/sim/demo.json";
   std::string plan_path = std::string(ZOUT_SOURCE_DIR) + "/config/plans/bias-board-production.json";
   int slot = 1;
-  int soak_sweeps = 300;
+  int soak_sweeps = 250;
   bool skip_fixed = false;
   bool keep = false;
   app.add_option("--sim-config", sim_config, "simulated bench")->check(CLI::ExistingFile);
@@ -285,13 +287,24 @@ int main(int argc, char** argv) {
                                                                          12.0 * dwell_s * step_count)));
     }
 
-    fmt::print("\n{:>5} {:>10} {:>12} {:>10} {:>12} {:>12} {:>12}\n", "step", "load A", "truth settle", "tau s",
-               "zoutd step", "zoutd settle", "fixed step");
+    // Seconds per column; "fixed - settled" is how far the fixed-dwell point's DC value lies from
+    // the settled one (the same unit, reseated between the runs; meter noise about 1 mV).
+    fmt::print("\n{:>4} {:>8} {:>8} {:>8} {:>8} {:>8} {:>8} {:>15}\n", "step", "load A", "truth", "tau",
+               "zoutd", "settled", "fixed", "fixed-settled");
+    fmt::print("{:>4} {:>8} {:>8} {:>8} {:>8} {:>8} {:>8} {:>15}\n", "", "", "settle s", "s", "step s",
+               "after s", "step s", "V");
+    double worst_fixed_error_volts = 0.0;
     for (std::size_t k = 0; k < truth.size(); ++k) {
       const auto at = [&](const std::vector<double>& v) { return k < v.size() ? fmt::format("{:.3f}", v[k]) : "-"; };
-      fmt::print("{:>5} {:>10.3g} {:>12.3f} {:>10.4f} {:>12} {:>12} {:>12}\n", k + 1, truth[k].set_amps,
+      std::string error = "-";
+      if (k < fixed.dc_volts.size() && k < detected.dc_volts.size()) {
+        const double difference = fixed.dc_volts[k] - detected.dc_volts[k];
+        worst_fixed_error_volts = std::max(worst_fixed_error_volts, std::abs(difference));
+        error = fmt::format("{:+.3f}", difference);
+      }
+      fmt::print("{:>4} {:>8.3g} {:>8.3f} {:>8.4f} {:>8} {:>8} {:>8} {:>15}\n", k + 1, truth[k].set_amps,
                  truth[k].settle_s, truth[k].time_constant_s, at(detected.step_s), at(detected.settle_s),
-                 at(fixed.step_s));
+                 at(fixed.step_s), error);
     }
     fmt::print("\nDC integration {:.3f} s per reading ({} NPLC at {} Hz); plan tolerance {} V\n", integration_s,
                plan.measure.dc_nplc, line_hz, plan.settle.tolerance_volts);
@@ -302,6 +315,13 @@ int main(int argc, char** argv) {
     if (!skip_fixed) {
       fmt::print("zoutd, fixed dwell 5 tau = {:.3f} s ({}):      {:8.2f} s   ratio {:.2f}\n", dwell_s, fixed.state,
                  fixed.wall_s, fixed.wall_s / limit_s);
+      double slowest_settle_s = 0.0;
+      for (const auto& step : truth) slowest_settle_s = std::max(slowest_settle_s, step.settle_s);
+      fmt::print("  the fixed dwell leaves points up to {:.3f} V from settled (plan tolerance {} V); a dwell covering "
+                 "every step\n  ({:.3f} s, the slowest truth settle) would take about {:.1f} s, ratio {:.2f}\n",
+                 worst_fixed_error_volts, plan.settle.tolerance_volts, slowest_settle_s,
+                 fixed.wall_s + step_count * (slowest_settle_s - dwell_s),
+                 (fixed.wall_s + step_count * (slowest_settle_s - dwell_s)) / limit_s);
     }
     std::cout << std::flush;
 
@@ -323,6 +343,7 @@ int main(int argc, char** argv) {
       soak_plan["settle"] = {{"method", "window"}, {"tolerance_volts", 0.1}, {"max_s", 5}, {"window_readings", 2}};
       soak_plan["measure"]["dc"]["nplc"] = 0.2;
       soak_plan["measure"]["dc"]["samples"] = 2;
+      soak_plan["measure"]["ripple"]["at"] = "rated_step";
       soak_plan["limits"] = json::object();
       soak_plan["repeat"] = {{"count", soak_sweeps}, {"interval_s", 0}, {"baseline_sweeps", 5}};
       long rss_after_ten_kib = -1;
