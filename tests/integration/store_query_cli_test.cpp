@@ -182,7 +182,7 @@ TEST_CASE("zout query reports bad SQL, a missing database and a bad format clear
   REQUIRE_THAT(typo.err, Catch::Contains("SQL error") && Catch::Contains("syntax error"));
   const ChildResult missing = zout_query({"SELECT 1", "--db", (dir.path / "absent.db").string()});
   REQUIRE(missing.exit_code == 1);
-  REQUIRE_THAT(missing.err, Catch::Contains("absent.db: no such file") && Catch::Contains("--db FILE or the ZOUT_DB"));
+  REQUIRE_THAT(missing.err, Catch::Contains("absent.db: no such file") && Catch::Contains("--db FILE, the ZOUT_DB environment variable or --bench FILE"));
   REQUIRE_FALSE(fs::exists(dir.path / "absent.db"));
   const ChildResult format = zout_query({"SELECT 1", "--db", db.string(), "--format", "xml"});
   REQUIRE(format.exit_code == 2);
