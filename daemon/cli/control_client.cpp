@@ -24,7 +24,7 @@ ControlClient::ControlClient(const std::string& socket_path) : socket_path_(sock
     const std::string reason = std::strerror(errno);
     if (fd_ >= 0) ::close(fd_);
     fd_ = -1;
-    throw std::runtime_error(fmt::format(
+    throw DaemonUnreachable(fmt::format(
         "cannot reach zoutd at {} ({}); is it running? Start it with `zoutd --bench BENCH.json` or "
         "`systemctl start zoutd`",
         socket_path, reason));

@@ -23,9 +23,15 @@ class ControlCallError : public std::runtime_error {
   int code_;
 };
 
+// Nobody listens on the control socket: zoutd is not running (or the path is wrong).
+class DaemonUnreachable : public std::runtime_error {
+ public:
+  using std::runtime_error::runtime_error;
+};
+
 class ControlClient {
  public:
-  // Connects to the socket; throws std::runtime_error saying how to start zoutd when nobody
+  // Connects to the socket; throws DaemonUnreachable saying how to start zoutd when nobody
   // listens there.
   explicit ControlClient(const std::string& socket_path);
   ~ControlClient();

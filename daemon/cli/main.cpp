@@ -2,7 +2,9 @@
 
 #include <CLI/CLI.hpp>
 
+#include "daemon/cli/daemon_verbs.h"
 #include "daemon/cli/exit_codes.h"
+#include "daemon/cli/history_verbs.h"
 #include "daemon/cli/ports_command.h"
 #include "daemon/cli/query_command.h"
 #include "daemon/cli/scpi_command.h"
@@ -14,6 +16,13 @@ int main(int argc, char** argv) {
   zout::cli::add_scpi_command(app, exit_code);
   zout::cli::add_ports_command(app, exit_code);
   zout::cli::add_query_command(app, exit_code);
+  zout::cli::add_status_command(app, exit_code);
+  zout::cli::add_start_command(app, exit_code);
+  zout::cli::add_watch_command(app, exit_code);
+  zout::cli::add_abort_command(app, exit_code);
+  zout::cli::add_runs_command(app, exit_code);
+  zout::cli::add_bench_command(app, exit_code);
+  zout::cli::add_check_command(app, exit_code);
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {

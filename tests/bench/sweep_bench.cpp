@@ -347,10 +347,16 @@ int main(int argc, char** argv) {
       soak_plan["limits"] = json::object();
       soak_plan["repeat"] = {{"count", soak_sweeps}, {"interval_s", 0}, {"baseline_sweeps", 5}};
       long rss_after_ten_kib = -1;
+      std::vector<std::pair<int, long>> rss_trail;  // (sweep, VmRSS KiB) at 10, 20, 40, 80, ...
       const auto started = Clock::now();
       const TimedRun soak = timed_run(soak_daemon, soak_plan, unit, slot, std::chrono::seconds(60 + 10 * soak_sweeps),
                                       [&](const json& result) {
-                                        if (result.at("sweep") == 10) rss_after_ten_kib = soak_daemon.status_kib("VmRSS");
+                                        const int sweep = result.at("sweep").get<int>();
+                                        if (sweep == 10) rss_after_ten_kib = soak_daemon.status_kib("VmRSS");
+                                        const int tens = sweep / 10;
+                                        if (sweep % 10 == 0 && tens > 0 && (tens & (tens - 1)) == 0) {
+                                          rss_trail.emplace_back(sweep, soak_daemon.status_kib("VmRSS"));
+                                        }
                                       });
       const long peak_kib = soak_daemon.status_kib("VmHWM");
       const long rss_end_kib = soak_daemon.status_kib("VmRSS");
@@ -361,6 +367,9 @@ int main(int argc, char** argv) {
                  rss_after_ten_kib, soak_sweeps, peak_kib, rss_end_kib,
                  100.0 * (static_cast<double>(peak_kib) - static_cast<double>(rss_after_ten_kib)) /
                      static_cast<double>(rss_after_ten_kib));
+      std::string trail;
+      for (const auto& [sweep, kib] : rss_trail) trail += fmt::format("  {}:{}", sweep, kib);
+      fmt::print("RSS KiB by sweep:{}\n", trail);
     }
     if (keep) {
       fmt::print("kept {}\n", dir);
