@@ -17,13 +17,14 @@ std::string environment(const char* name) {
   return value != nullptr ? std::string(value) : std::string();
 }
 
-// <prefix>/etc/zout/bench.json when this program runs as <prefix>/bin/zout.
+// The installed bench file (<sysconfdir>/zout/bench.json) when this program is the installed
+// one (it runs from <bindir>); empty otherwise.
 std::string installed_bench() {
   std::error_code error;
   const auto self = std::filesystem::read_symlink("/proc/self/exe", error);
-  if (error) return {};
-  const auto candidate = self.parent_path().parent_path() / "etc" / "zout" / "bench.json";
-  return std::filesystem::exists(candidate, error) ? candidate.string() : std::string();
+  if (error || self.parent_path() != std::filesystem::path(ZOUT_INSTALL_BINDIR)) return {};
+  const std::filesystem::path bench(ZOUT_INSTALLED_BENCH);
+  return std::filesystem::exists(bench, error) ? bench.string() : std::string();
 }
 
 }  // namespace

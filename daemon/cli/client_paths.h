@@ -1,8 +1,8 @@
 #pragma once
 // Where the `zout` client finds its bench file, the daemon's control socket and the database.
 // Each has an option, then an environment variable, then a default:
-//   bench file: --bench FILE, $ZOUT_BENCH, <prefix>/etc/zout/bench.json beside an installed
-//               zout (<prefix>/bin/zout), then the source tree's config/bench.sim.json;
+//   bench file: --bench FILE, $ZOUT_BENCH, <sysconfdir>/zout/bench.json when this zout is the
+//               installed one (cmake --install), else the source tree's config/bench.sim.json;
 //   socket:     --socket PATH, $ZOUT_SOCKET, the bench file's control.socket;
 //   database:   --db FILE, $ZOUT_DB, the bench file's database.
 // The bench file is read only when a socket or database path is not given otherwise.
