@@ -7,6 +7,8 @@
 #include <iostream>
 
 #include <CLI/CLI.hpp>
+#include <sqlite3.h>
+#include <cstdlib>
 #include <asio.hpp>
 
 #include "daemon/api/control_methods.h"
@@ -23,6 +25,7 @@ int main(int argc, char** argv) {
       ->capture_default_str();
   app.add_flag("--foreground", foreground, "Stay attached to the terminal (the default; for service managers)");
   CLI11_PARSE(app, argc, argv);
+  if (const char* limit = std::getenv("ZOUTD_EXPERIMENT_SQLITE_LIMIT")) sqlite3_soft_heap_limit64(std::atoll(limit));
 
   try {
     const zout::BenchConfig bench = zout::load_bench_file(bench_path);
