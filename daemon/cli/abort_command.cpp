@@ -55,13 +55,7 @@ void add_abort_command(CLI::App& app, int& exit_code) {
   o->paths.add_options(*verb, true, false);
   verb->footer("Exit status: 0 the run has ended, 1 no such run (or not queued/running) or still running after\n"
                "--wait-s, 8 zoutd not running.\nExample: zout abort 42");
-  verb->callback([o, &exit_code] {
-    try {
-      exit_code = run_abort(*o);
-    } catch (...) {
-      exit_code = report_current_exception("abort");
-    }
-  });
+  verb->callback(verb_callback("abort", exit_code, [o] { return run_abort(*o); }));
 }
 
 }  // namespace zout::cli

@@ -88,13 +88,7 @@ void add_bench_command(CLI::App& app, int& exit_code) {
       "While zoutd holds the bench, serial instruments report busy: stop it first or use zout status.\n"
       "Exit status: 0 every instrument answered, 3 one timed out, 4 one could not be reached,\n"
       "7 the bench file is refused.\nExample: zout bench --bench /etc/zout/bench.json");
-  verb->callback([o, &exit_code] {
-    try {
-      exit_code = run_bench(*o);
-    } catch (...) {
-      exit_code = report_current_exception("bench");
-    }
-  });
+  verb->callback(verb_callback("bench", exit_code, [o] { return run_bench(*o); }));
 }
 
 }  // namespace zout::cli

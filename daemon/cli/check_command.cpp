@@ -148,13 +148,7 @@ void add_check_command(CLI::App& app, int& exit_code) {
   o->paths.add_options(*verb, false, false);
   verb->footer("Touches no instrument.\nExit status: 0 valid and safe, 7 invalid or over the bench's safety maxima.\n"
                "Example: zout check config/plans/bias-board-production.json");
-  verb->callback([o, &exit_code] {
-    try {
-      exit_code = run_check(*o);
-    } catch (...) {
-      exit_code = report_current_exception("check");
-    }
-  });
+  verb->callback(verb_callback("check", exit_code, [o] { return run_check(*o); }));
 }
 
 }  // namespace zout::cli

@@ -88,13 +88,7 @@ void add_runs_command(CLI::App& app, int& exit_code) {
   verb->add_flag("--json", o->json_output, "Print a JSON array");
   o->paths.add_options(*verb, false, true);
   verb->footer("Exit status: 0 ok, 1 the database cannot be read.\nExample: zout runs --state failed --limit 50");
-  verb->callback([o, &exit_code] {
-    try {
-      exit_code = run_runs(*o);
-    } catch (...) {
-      exit_code = report_current_exception("runs");
-    }
-  });
+  verb->callback(verb_callback("runs", exit_code, [o] { return run_runs(*o); }));
 }
 
 }  // namespace zout::cli

@@ -79,18 +79,12 @@ void add_start_command(CLI::App& app, int& exit_code) {
       "9 a unit failed, 10 a run was aborted, interrupted or ended in error, 2 bad arguments.\n"
       "Examples: zout start config/plans/bias-board-production.json --unit BB5-2611-0001@1 --watch\n"
       "          zout start config/plans/bias-board-production.json --panel config/panels/bb5-demo-panel.json");
-  verb->callback([o, &exit_code] {
+  verb->callback(verb_callback("start", exit_code, [o] {
     if (o->units.empty() && o->panel.empty()) {
-      std::cerr << "zout start: name the units: --unit SERIAL[@SLOT] (repeatable) or --panel FILE\n";
-      exit_code = exit_usage;
-      return;
+      throw std::invalid_argument("name the units: --unit SERIAL[@SLOT] (repeatable) or --panel FILE");
     }
-    try {
-      exit_code = run_start(*o);
-    } catch (...) {
-      exit_code = report_current_exception("start");
-    }
-  });
+    return run_start(*o);
+  }));
 }
 
 }  // namespace zout::cli

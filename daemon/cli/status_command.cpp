@@ -86,21 +86,17 @@ void add_status_command(CLI::App& app, int& exit_code) {
   options->paths.add_options(*verb, true, false);
   verb->add_flag("--json", options->json_output, "Print one JSON object instead of text");
   verb->footer("Exit status: 0 zoutd answered, 8 zoutd is not running, 1 other failure.\nExample: zout status");
-  verb->callback([options, &exit_code] {
-    try {
-      const std::string socket = options->paths.socket_path();
-      ControlClient client(socket);
-      const json status = gather_status(client, socket);
-      if (options->json_output) {
-        std::cout << status.dump(2) << "\n";
-      } else {
-        print_status(status);
-      }
-      exit_code = exit_ok;
-    } catch (...) {
-      exit_code = report_current_exception("status");
+  verb->callback(verb_callback("status", exit_code, [options] {
+    const std::string socket = options->paths.socket_path();
+    ControlClient client(socket);
+    const json status = gather_status(client, socket);
+    if (options->json_output) {
+      std::cout << status.dump(2) << "\n";
+    } else {
+      print_status(status);
     }
-  });
+    return exit_ok;
+  }));
 }
 
 }  // namespace zout::cli

@@ -60,13 +60,7 @@ void add_watch_command(CLI::App& app, int& exit_code) {
   verb->footer(
       "Exit status: 0 every run passed, 9 a unit failed, 10 a run was aborted, interrupted or ended\n"
       "in error, 8 zoutd not running, 1 no such run.\nExample: zout watch 42");
-  verb->callback([o, &exit_code] {
-    try {
-      exit_code = run_watch(*o);
-    } catch (...) {
-      exit_code = report_current_exception("watch");
-    }
-  });
+  verb->callback(verb_callback("watch", exit_code, [o] { return run_watch(*o); }));
 }
 
 }  // namespace zout::cli
