@@ -3,8 +3,10 @@
 #include <CLI/CLI.hpp>
 
 #include "daemon/cli/exit_codes.h"
+#include "daemon/cli/export_command.h"
 #include "daemon/cli/ports_command.h"
 #include "daemon/cli/query_command.h"
+#include "daemon/cli/report_command.h"
 #include "daemon/cli/scpi_command.h"
 
 int main(int argc, char** argv) {
@@ -14,6 +16,8 @@ int main(int argc, char** argv) {
   zout::cli::add_scpi_command(app, exit_code);
   zout::cli::add_ports_command(app, exit_code);
   zout::cli::add_query_command(app, exit_code);
+  zout::cli::add_report_command(app, exit_code);
+  zout::cli::add_export_command(app, exit_code);
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
