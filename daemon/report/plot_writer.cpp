@@ -27,6 +27,11 @@ std::string quoted(const std::string& text) {
   return out + "'";
 }
 
+// A text gnuplot shows as given: '_' and '^' in a serial or unit stay literal. (Per string
+// rather than `set termoption noenhanced`, which would drop the plot titles from the SVG's
+// <title> elements.)
+std::string text(const std::string& words) { return quoted(words) + " noenhanced"; }
+
 // A named data block, values written so they read back exactly.
 std::string data_block(const std::string& name, const std::vector<XY>& rows) {
   std::string out = "$" + name + " << EOD\n";
@@ -76,9 +81,8 @@ std::optional<double> operating_amps(const RunRecord& record) {
 }
 
 const char* common_settings =
-    "set termoption noenhanced\n"
     "set grid\n"
-    "set key box opaque\n";
+    "set key box\n";
 
 }  // namespace
 
@@ -92,7 +96,7 @@ std::string iv_plot_body(const RunRecord& record) {
   const double span = largest > 0.0 ? largest : 1e-3;
 
   std::string script = data_block("measured", measured);
-  std::vector<std::string> plots = {"$measured using 1:2 with points pt 7 ps 1.2 lc rgb '#1f4e9a' title 'measured'"};
+  std::vector<std::string> plots = {"$measured using 1:2 with points pt 7 ps 1.2 lc rgb '#1f4e9a' title 'measured' noenhanced"};
 
   const SweepResultRow* result = record.latest_result();
   if (result && result->v_oc_volts && result->z_out_ohms) {
@@ -102,7 +106,7 @@ std::string iv_plot_body(const RunRecord& record) {
     if (!(fit_to > 0.0) || fit_to > span) fit_to = span;
     script += data_block("fit", sampled(0.0, fit_to, 2, [&](double i) { return v_oc - z * i; }));
     plots.push_back(fmt::format("$fit using 1:2 with lines lw 2 lc rgb '#2a9d4b' title {}",
-                                quoted(fmt::format("local fit V_oc - Z_out*I (Z_out {:.4g} ohm)", z))));
+                                text(fmt::format("local fit V_oc - Z_out*I (Z_out {:.4g} ohm)", z))));
     const auto i_op = operating_amps(record);
     const auto v_op = i_op ? mean_volts_near(record, *i_op) : std::nullopt;
     if (i_op && v_op) {
@@ -110,20 +114,20 @@ std::string iv_plot_body(const RunRecord& record) {
       script += data_block("tangent", sampled(std::max(0.0, *i_op - half), *i_op + half, 2,
                                               [&](double i) { return *v_op - z * (i - *i_op); }));
       plots.push_back(fmt::format("$tangent using 1:2 with lines lw 2 dt 2 lc rgb '#d1495b' title {}",
-                                  quoted(fmt::format("tangent at {:.4g} A, slope -Z_out", *i_op))));
+                                  text(fmt::format("tangent at {:.4g} A, slope -Z_out", *i_op))));
     }
   }
   if (const auto drive = cascade_drive(record)) {
     script += data_block("model", sampled(0.0, span, 41, [&](double i) { return model_output_volts(*drive, i); }));
     plots.push_back(fmt::format(
         "$model using 1:2 with lines lw 2 dt 4 lc rgb '#8d6a9f' title {}",
-        quoted(fmt::format("Cockcroft-Walton model (n {}, C {:.4g} F, f {:.6g} Hz)", drive->stages,
+        text(fmt::format("Cockcroft-Walton model (n {}, C {:.4g} F, f {:.6g} Hz)", drive->stages,
                            drive->capacitance_farads, drive->frequency_hz))));
   }
   script += common_settings;
   script += "set key bottom left\n";
-  script += fmt::format("set title {}\n", quoted(title_of(record, "DC output against load current")));
-  script += "set xlabel 'load current (A)'\nset ylabel 'DC output (V)'\n";
+  script += fmt::format("set title {}\n", text(title_of(record, "DC output against load current")));
+  script += "set xlabel 'load current (A)' noenhanced\nset ylabel 'DC output (V)' noenhanced\n";
   script += "plot ";
   for (std::size_t i = 0; i < plots.size(); ++i) script += (i ? ", \\\n     " : "") + plots[i];
   return script + "\n";
@@ -143,19 +147,19 @@ std::string ripple_plot_body(const RunRecord& record) {
   std::vector<std::string> plots;
   if (!measured.empty()) {
     script += data_block("measured", measured);
-    plots.push_back("$measured using 1:2 with points pt 7 ps 1.2 lc rgb '#1f4e9a' title 'measured ripple pp'");
+    plots.push_back("$measured using 1:2 with points pt 7 ps 1.2 lc rgb '#1f4e9a' title 'measured ripple pp' noenhanced");
   }
   if (drive) {
     script += data_block("model", sampled(0.0, span, 41, [&](double i) {
                            return analysis::predicted_ripple_pp_volts(drive->stages, i, drive->frequency_hz,
                                                                       drive->capacitance_farads);
                          }));
-    plots.push_back("$model using 1:2 with lines lw 2 dt 4 lc rgb '#8d6a9f' title 'Cockcroft-Walton model ripple pp'");
+    plots.push_back("$model using 1:2 with lines lw 2 dt 4 lc rgb '#8d6a9f' title 'Cockcroft-Walton model ripple pp' noenhanced");
   }
   script += common_settings;
   script += "set key top left\n";
-  script += fmt::format("set title {}\n", quoted(title_of(record, "ripple against load current")));
-  script += "set xlabel 'load current (A)'\nset ylabel 'ripple peak-to-peak (V)'\n";
+  script += fmt::format("set title {}\n", text(title_of(record, "ripple against load current")));
+  script += "set xlabel 'load current (A)' noenhanced\nset ylabel 'ripple peak-to-peak (V)' noenhanced\n";
   script += "plot ";
   for (std::size_t i = 0; i < plots.size(); ++i) script += (i ? ", \\\n     " : "") + plots[i];
   return script + "\n";
@@ -187,8 +191,8 @@ std::string soak_plot_body(const RunRecord& record) {
     }
     if (series.empty()) continue;
     data += data_block(panel.name, series);
-    std::string plot = fmt::format("set ylabel {}\nplot ${} using 1:2 with linespoints pt 7 ps 0.8 lc rgb '#1f4e9a' title 'measured'",
-                                   quoted(panel.label), panel.name);
+    std::string plot = fmt::format("set ylabel {}\nplot ${} using 1:2 with linespoints pt 7 ps 0.8 lc rgb '#1f4e9a' title 'measured' noenhanced",
+                                   text(panel.label), panel.name);
     const auto band = analysis::control_band(values, baseline, band_sigma);
     if (band) {
       const double from = series.front().x;
@@ -198,18 +202,18 @@ std::string soak_plot_body(const RunRecord& record) {
       data += data_block(panel.name + "_lower", flat(band->lower));
       data += data_block(panel.name + "_upper", flat(band->upper));
       plot += fmt::format(
-          ", ${0}_mean using 1:2 with lines lw 1 lc rgb '#555555' title 'baseline mean', "
+          ", ${0}_mean using 1:2 with lines lw 1 lc rgb '#555555' title 'baseline mean' noenhanced, "
           "${0}_lower using 1:2 with lines lw 1 dt 2 lc rgb '#d1495b' title {1}, "
           "${0}_upper using 1:2 with lines lw 1 dt 2 lc rgb '#d1495b' notitle",
-          panel.name, quoted(fmt::format("control band (mean +/- {:g} sigma of first {} sweeps)", band_sigma,
+          panel.name, text(fmt::format("control band (mean +/- {:g} sigma of first {} sweeps)", band_sigma,
                                          band->baseline_points)));
     }
     panel_plots.push_back(plot + "\n");
   }
   if (panel_plots.empty()) return "";
-  std::string script = data + common_settings + "set key top right font ',9'\nset xlabel 'time since start (h)'\n";
+  std::string script = data + common_settings + "set key top right font ',9'\nset xlabel 'time since start (h)' noenhanced\n";
   script += fmt::format("set multiplot layout {},1 title {}\n", panel_plots.size(),
-                        quoted(title_of(record, "soak trend")));
+                        text(title_of(record, "soak trend")));
   for (const auto& plot : panel_plots) script += plot;
   return script + "unset multiplot\n";
 }

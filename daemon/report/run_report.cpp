@@ -30,15 +30,19 @@ std::string number(const std::optional<double>& value) { return value ? fmt::for
 // "value ± stderr unit", "value unit", or "-".
 std::string figure(const std::optional<double>& value, const std::optional<double>& stderr_value, const char* unit) {
   if (!value) return "-";
-  if (stderr_value) return fmt::format("{:.6g} ± {:.3g} {}", *value, *stderr_value, unit);
+  if (stderr_value) return fmt::format("{:.6g} ± {:.6g} {}", *value, *stderr_value, unit);
   return fmt::format("{:.6g} {}", *value, unit);
 }
 
 nlohmann::json json_of(const std::optional<double>& v) { return v ? nlohmann::json(*v) : nlohmann::json(nullptr); }
 nlohmann::json json_of(const std::optional<std::string>& v) { return v ? nlohmann::json(*v) : nlohmann::json(nullptr); }
 
-// Columns padded to their widest cell, two spaces apart, first column left-aligned.
-std::string table(const std::vector<std::vector<std::string>>& rows, const std::string& indent) {
+enum class Align { left, numbers_right };
+
+// Columns padded to their widest cell, two spaces apart; the first column is left-aligned, the
+// others too unless `align` is numbers_right.
+std::string table(const std::vector<std::vector<std::string>>& rows, const std::string& indent,
+                  Align align = Align::left) {
   std::vector<std::size_t> widths;
   const auto width_of = [](const std::string& s) {
     std::size_t n = 0;
@@ -54,7 +58,11 @@ std::string table(const std::vector<std::vector<std::string>>& rows, const std::
     std::string line = indent;
     for (std::size_t i = 0; i < row.size(); ++i) {
       const std::string pad(widths[i] - width_of(row[i]), ' ');
-      line += i == 0 ? row[i] + pad : "  " + pad + row[i];
+      if (i == 0) {
+        line += row[i] + pad;
+      } else {
+        line += align == Align::left ? "  " + row[i] + pad : "  " + pad + row[i];
+      }
     }
     while (!line.empty() && line.back() == ' ') line.pop_back();
     out += line + "\n";
@@ -129,7 +137,7 @@ std::string render_text_report(const RunRecord& record) {
                           row.model ? number(row.model) + " " + row.unit : "-",
                           row.difference_percent ? fmt::format("{:+.2f} %", *row.difference_percent) : "-"});
   }
-  out += table(comparison, "  ");
+  out += table(comparison, "  ", Align::numbers_right);
 
   out += fmt::format("\nPoints ({})\n", record.points.size());
   std::vector<std::vector<std::string>> points = {
@@ -139,7 +147,7 @@ std::string render_text_report(const RunRecord& record) {
                       number(p.measured_load_amps), number(p.dc_volts), number(p.ripple_pp_volts),
                       fmt::format("{:.3f}", p.settle_s), p.settled ? "yes" : "NO"});
   }
-  out += table(points, "  ");
+  out += table(points, "  ", Align::numbers_right);
 
   if (h.kind == "soak" && r) {
     out += fmt::format("\nDrift over {} sweeps (least-squares slope per hour ± one standard error)\n",

@@ -114,7 +114,7 @@ std::vector<std::pair<double, double>> svg_markers(const std::string& svg, const
   const std::string opening = "><title>" + title + "</title>";
   const auto start = svg.find(opening);
   if (start == std::string::npos) FAIL("no plot titled " << title << " in the SVG");
-  const auto end = svg.find("<g id=\"gnuplot_plot_", start + opening.size());
+  const auto end = svg.find(" ><title>", start + opening.size());  // the next plot's group
   std::istringstream lines(svg.substr(start, end - start));
   const SvgAxes a = svg_axes(svg);
   const std::regex marker("<use xlink:href='#gpPt[0-9]+' transform='translate\\(([-0-9.]+),([-0-9.]+)\\)");
@@ -151,7 +151,7 @@ TEST_CASE("zout report prints a run's report and exits 0", "[report]") {
   REQUIRE(r.exit_code == 0);
   CHECK(r.err.empty());
   CHECK(r.out.find("unit CW5-0042 (CW5), slot 3") != std::string::npos);
-  CHECK(r.out.find("119250 ± 1.53e+03 ohm") != std::string::npos);
+  CHECK(r.out.find("119250 ± 1530 ohm") != std::string::npos);
   CHECK(r.out.find("Verdict: FAIL") != std::string::npos);
 
   const auto json = zout_cli({"report", std::to_string(db.soak_run), "--json", "--db", db.file.string()});

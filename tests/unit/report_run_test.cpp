@@ -156,7 +156,7 @@ TEST_CASE("the text report shows the figures, the model comparison, points, verd
   CHECK(contains(text, "line-2"));
   CHECK(contains(text, "63.000 s"));
   CHECK(contains(text, "392.4 V"));
-  CHECK(contains(text, "119250 ± 1.53e+03 ohm (4 fit points)"));
+  CHECK(contains(text, "119250 ± 1530 ohm (4 fit points)"));
   CHECK(contains(text, "104200 ± 870 ohm"));
   CHECK(contains(text, "4.559e-08 F"));
   CHECK(contains(text, "0.76 V"));
