@@ -125,7 +125,7 @@ std::string iv_plot_body(const RunRecord& record) {
                            drive->capacitance_farads, drive->frequency_hz))));
   }
   script += common_settings;
-  script += "set key bottom left\n";
+  script += "set key top right\n";
   script += fmt::format("set title {}\n", text(title_of(record, "DC output against load current")));
   script += "set xlabel 'load current (A)' noenhanced\nset ylabel 'DC output (V)' noenhanced\n";
   script += "plot ";
