@@ -4,9 +4,11 @@
 
 #include "daemon/cli/daemon_verbs.h"
 #include "daemon/cli/exit_codes.h"
+#include "daemon/cli/export_command.h"
 #include "daemon/cli/history_verbs.h"
 #include "daemon/cli/ports_command.h"
 #include "daemon/cli/query_command.h"
+#include "daemon/cli/report_command.h"
 #include "daemon/cli/scpi_command.h"
 
 int main(int argc, char** argv) {
@@ -23,6 +25,8 @@ int main(int argc, char** argv) {
   zout::cli::add_runs_command(app, exit_code);
   zout::cli::add_bench_command(app, exit_code);
   zout::cli::add_check_command(app, exit_code);
+  zout::cli::add_report_command(app, exit_code);
+  zout::cli::add_export_command(app, exit_code);
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {

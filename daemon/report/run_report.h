@@ -1,0 +1,28 @@
+#pragma once
+// The report of one run, as plain text for a terminal and as JSON (`zout report --json`):
+// header (run, unit, slot, plan, station, operator, state, times, duration), the latest
+// sweep's figures with their standard errors, the Cockcroft–Walton comparison, the points
+// table, for a soak run the drift slopes, the verdict with each reason, and the run's warning
+// and error events. Numbers in the text carry 6 significant digits; the JSON carries them
+// exactly as stored (null where the store has NULL).
+
+#include <nlohmann/json.hpp>
+
+#include <optional>
+#include <string>
+
+#include "daemon/report/run_record.h"
+
+namespace zout::report {
+
+// Seconds from started_at to ended_at; empty when either is missing or unreadable.
+std::optional<double> run_duration_s(const RunHeader& header);
+
+// The text report; every line ends in '\n'.
+std::string render_text_report(const RunRecord& record);
+
+// The same content as a JSON object: run, figures, model_comparison, points, drift (null for
+// a production run), verdict {verdict, reasons}, events (warning and error only).
+nlohmann::json render_json_report(const RunRecord& record);
+
+}  // namespace zout::report

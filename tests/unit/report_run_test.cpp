@@ -1,0 +1,254 @@
+// RunRecord, the text and JSON reports and the export rows, on a database written here with
+// StoreWriter (tests/support/report_database.h): the report must show exactly what was stored,
+// and its model comparison must equal the Cockcroft–Walton formulas evaluated here.
+#include <catch2/catch.hpp>
+
+#include <fmt/format.h>
+
+#include <cmath>
+
+#include "daemon/report/model_comparison.h"
+#include "daemon/report/run_export.h"
+#include "daemon/report/run_record.h"
+#include "daemon/report/run_report.h"
+#include "daemon/store/store_error.h"
+#include "tests/support/report_database.h"
+
+using namespace zout;
+using namespace zout::test;
+
+namespace {
+
+// Kuffel, Zaengl & Kuffel, High Voltage Engineering: Fundamentals, §2.2, written out here
+// rather than taken from daemon/analysis: for an n-stage cascade at load current I,
+//   ΔV = (I/fC)(2n³/3 + n²/2 − n/6),  δV = (I/fC)·n(n+1)/2,  V_ideal = 2n·V_pk.
+double book_sag_volts(double amps) {
+  const double n = report_stages;
+  return amps / (report_frequency_hz * report_capacitance_farads) * (2 * n * n * n / 3 + n * n / 2 - n / 6);
+}
+double book_ripple_pp_volts(double amps) {
+  const double n = report_stages;
+  return amps / (report_frequency_hz * report_capacitance_farads) * n * (n + 1) / 2;
+}
+double book_source_ohms() { return book_sag_volts(1.0); }
+double book_ideal_volts() { return 2.0 * report_stages * report_amplitude_volts_peak; }
+
+bool contains(const std::string& text, const std::string& part) { return text.find(part) != std::string::npos; }
+
+}  // namespace
+
+TEST_CASE("a run record holds exactly the run, plan, points, readings, results and events stored", "[report]") {
+  ReportTempDir dir("zout-report-record");
+  const ReportDatabase db = make_report_database(dir.path);
+  const report::RunRecord r = report::load_run_record(db.file, db.production_run);
+
+  CHECK(r.header.run_id == db.production_run);
+  CHECK(r.header.serial == "CW5-0042");
+  CHECK(r.header.model == "CW5");
+  CHECK(r.header.station == "line-2");
+  CHECK(r.header.plan_name == "cw5-production");
+  CHECK(r.header.kind == "production");
+  CHECK(r.header.state == "failed");
+  CHECK(r.header.operator_name == "ana");
+  CHECK(r.header.note == "first article");
+  CHECK(r.header.slot == 3);
+  CHECK(r.header.started_at == "2026-12-01T21:15:14.123Z");
+  CHECK(r.header.ended_at == "2026-12-01T21:16:17.123Z");  // 2 + 6·10 + 1 s later
+  CHECK(report::run_duration_s(r.header) == Approx(63.0).margin(1e-9));
+  CHECK(r.header.sweeps == 1);
+
+  REQUIRE(r.plan.has_value());
+  CHECK(r.plan_error.empty());
+  CHECK(r.plan->dut.stages == 5);
+  CHECK(r.plan_document["impedance"]["operating_amps"].get<double>() == 1e-5);
+
+  const auto& expected = production_points();
+  REQUIRE(r.points.size() == expected.size());
+  for (std::size_t i = 0; i < expected.size(); ++i) {
+    const auto& p = r.points[i];
+    INFO("point " << i);
+    CHECK(p.sweep_index == 0);
+    CHECK(p.step_index == static_cast<std::int64_t>(i));
+    CHECK(p.set_load_amps == expected[i].set_amps);
+    CHECK(!p.set_load_ohms);
+    CHECK(p.measured_load_amps == expected[i].measured_amps);
+    CHECK(p.load_amps == expected[i].measured_amps);
+    CHECK(p.dc_volts == expected[i].dc_volts);
+    CHECK(p.ripple_pp_volts == expected[i].ripple_pp_volts);
+    CHECK(p.settle_s == expected[i].settle_s);
+    CHECK(p.settled == (i != 4));
+    REQUIRE(p.readings.size() == 5);
+    CHECK(p.readings[0].kind == "dc_volts");
+    CHECK(p.readings[0].value == expected[i].dc_volts - 0.125);
+    CHECK(p.readings[2].value == expected[i].dc_volts + 0.125);
+    CHECK(p.readings[4].instrument_role == "load");
+    CHECK(p.readings[4].kind == "load_amps");
+    CHECK(p.readings[4].value == expected[i].measured_amps);
+    for (std::size_t k = 0; k < p.readings.size(); ++k) CHECK(p.readings[k].seq == static_cast<std::int64_t>(k));
+  }
+  CHECK(r.reading_count() == 30);
+
+  REQUIRE(r.sweep_results.size() == 1);
+  const auto& x = r.sweep_results[0];
+  CHECK(x.fit_points == 4);
+  CHECK(x.v_oc_volts == 392.4);
+  CHECK(x.z_out_ohms == 119250.0);
+  CHECK(x.z_out_stderr_ohms == 1530.0);
+  CHECK(x.z_chord_ohms == 105800.0);
+  CHECK(x.cascade_r_ohms == 104200.0);
+  CHECK(x.cascade_r_stderr_ohms == 870.0);
+  CHECK(x.effective_capacitance_farads == 45.59e-9);
+  CHECK(x.diode_drop_volts == 0.76);
+  CHECK(x.diode_m == 1.9);
+  CHECK(x.diode_i0_amps == 3.2e-6);
+  CHECK(x.rated_load_amps == 1e-3);
+  CHECK(x.ripple_rated_pp_volts == 16.6);
+  CHECK(!x.model_v_oc_volts);
+  CHECK(!x.v_oc_drift_volts_per_hour);
+  CHECK(x.verdict == "fail");
+  CHECK(x.verdict_reasons == std::vector<std::string>{"z_out_ohms 119250 is above z_out_max_ohms 115000"});
+  CHECK(r.soak_trend.empty());
+
+  REQUIRE(r.events.size() == 3);
+  CHECK(r.events[0].code == "reconnect");
+  CHECK(r.events[0].level == "warning");
+  CHECK(r.events[2].message == "-222,\"Data out of range\"");
+}
+
+TEST_CASE("a soak run record carries its trend, hours apart", "[report]") {
+  ReportTempDir dir("zout-report-record");
+  const ReportDatabase db = make_report_database(dir.path);
+  const report::RunRecord r = report::load_run_record(db.file, db.soak_run);
+  CHECK(r.header.kind == "soak");
+  CHECK(!r.header.slot);
+  CHECK(r.points.size() == 16);
+  REQUIRE(r.soak_trend.size() == 8);
+  REQUIRE(r.sweep_results.size() == 8);
+  for (int k = 0; k < 8; ++k) {
+    INFO("sweep " << k);
+    CHECK(r.soak_trend[k].sweep_index == k);
+    CHECK(r.soak_trend[k].elapsed_s == Approx(1800.0 * k).margin(1e-3));
+    CHECK(r.soak_trend[k].v_oc_volts == soak_v_oc(k));
+    CHECK(r.soak_trend[k].z_out_ohms == soak_z_out(k));
+    CHECK(r.soak_trend[k].ripple_rated_pp_volts == soak_ripple(k));
+  }
+  CHECK(r.latest_result()->sweep_index == 7);
+  CHECK(r.points_of_sweep(3).size() == 2);
+  CHECK(r.plan->repeat.baseline_sweeps == 3);
+}
+
+TEST_CASE("a missing run or database is a clear error naming the file", "[report]") {
+  ReportTempDir dir("zout-report-record");
+  const ReportDatabase db = make_report_database(dir.path);
+  REQUIRE_THROWS_MATCHES(report::load_run_record(db.file, 42), report::RunNotFound,
+                         Catch::Message("no run 42 in " + db.file.string()));
+  REQUIRE_THROWS_WITH(report::load_run_record(dir.path / "absent.db", 1),
+                      Catch::Contains((dir.path / "absent.db").string()) && Catch::Contains("no such file"));
+}
+
+TEST_CASE("the text report shows the figures, the model comparison, points, verdict and events", "[report]") {
+  ReportTempDir dir("zout-report-text");
+  const ReportDatabase db = make_report_database(dir.path);
+  const std::string text = report::render_text_report(report::load_run_record(db.file, db.production_run));
+  INFO(text);
+  CHECK(contains(text, fmt::format("Run {}: unit CW5-0042 (CW5), slot 3", db.production_run)));
+  CHECK(contains(text, "cw5-production"));
+  CHECK(contains(text, "line-2"));
+  CHECK(contains(text, "63.000 s"));
+  CHECK(contains(text, "392.4 V"));
+  CHECK(contains(text, "119250 ± 1530 ohm (4 fit points)"));
+  CHECK(contains(text, "104200 ± 870 ohm"));
+  CHECK(contains(text, "4.559e-08 F"));
+  CHECK(contains(text, "0.76 V"));
+  CHECK(contains(text, "16.6 V"));
+  // The model, from the book's formulas: 400 V, 101064 Ω, 101.064 V and 15.9574 V at 1 mA.
+  CHECK(contains(text, fmt::format("{:.6g} V", book_ideal_volts())));
+  CHECK(contains(text, fmt::format("{:.6g} ohm", book_source_ohms())));
+  CHECK(contains(text, fmt::format("{:.6g} V", book_sag_volts(1e-3))));
+  CHECK(contains(text, fmt::format("{:.6g} V", book_ripple_pp_volts(1e-3))));
+  CHECK(contains(text, fmt::format("{:.6g} V", 392.4 - 286.5)));  // measured droop
+  CHECK(contains(text, fmt::format("{:+.2f} %", 100.0 * (392.4 - 400.0) / 400.0)));
+  CHECK(contains(text, "Verdict: FAIL"));
+  CHECK(contains(text, "  - z_out_ohms 119250 is above z_out_max_ohms 115000"));
+  CHECK(contains(text, "Warnings and errors (2)"));
+  CHECK(contains(text, "reconnected after a timeout"));
+  CHECK(contains(text, "Data out of range"));
+  CHECK(!contains(text, "step 1 settled"));  // info events stay out
+  CHECK(contains(text, "Points (6)"));
+  CHECK(contains(text, "339.125"));
+  CHECK(contains(text, "NO"));  // the unsettled step
+  CHECK(!contains(text, "Drift"));
+}
+
+TEST_CASE("the JSON report's model comparison equals the book's formulas", "[report]") {
+  ReportTempDir dir("zout-report-json");
+  const ReportDatabase db = make_report_database(dir.path);
+  const auto json = report::render_json_report(report::load_run_record(db.file, db.production_run));
+  CHECK(json["run"]["serial"] == "CW5-0042");
+  CHECK(json["run"]["slot"] == 3);
+  CHECK(json["figures"]["z_out_ohms"].get<double>() == 119250.0);
+  CHECK(json["verdict"]["verdict"] == "fail");
+  CHECK(json["points"].size() == 6);
+  CHECK(json["drift"].is_null());
+  CHECK(json["events"].size() == 2);
+
+  const auto& rows = json["model_comparison"];
+  REQUIRE(rows.size() == 4);
+  const double measured[] = {392.4, 119250.0, 392.4 - 286.5, 16.6};
+  const double model[] = {book_ideal_volts(), book_source_ohms(), book_sag_volts(1e-3), book_ripple_pp_volts(1e-3)};
+  const char* keys[] = {"v_oc_volts", "z_out_ohms", "droop_rated_volts", "ripple_rated_pp_volts"};
+  for (int i = 0; i < 4; ++i) {
+    INFO(keys[i]);
+    CHECK(rows[i]["quantity"] == keys[i]);
+    CHECK(rows[i]["measured"].get<double>() == Approx(measured[i]).epsilon(1e-12));
+    CHECK(rows[i]["model"].get<double>() == Approx(model[i]).epsilon(1e-12));
+    CHECK(rows[i]["difference_percent"].get<double>() ==
+          Approx(100.0 * (measured[i] - model[i]) / model[i]).epsilon(1e-9));
+  }
+  // For this plan: 2n³/3 + n²/2 − n/6 = 95 and n(n+1)/2 = 15 (n = 5).
+  CHECK(book_source_ohms() == Approx(95.0 / (20000.0 * 47e-9)));
+  CHECK(book_ripple_pp_volts(1e-3) == Approx(15.0 * 1e-3 / (20000.0 * 47e-9)));
+}
+
+TEST_CASE("a soak report shows the drift slopes with their standard errors", "[report]") {
+  ReportTempDir dir("zout-report-soak");
+  const ReportDatabase db = make_report_database(dir.path);
+  const auto record = report::load_run_record(db.file, db.soak_run);
+  const std::string text = report::render_text_report(record);
+  INFO(text);
+  CHECK(contains(text, "Drift over 8 sweeps"));
+  CHECK(contains(text, "-0.5 ± 0.04 V/h"));
+  CHECK(contains(text, "200 ± 15 ohm/h"));
+  CHECK(contains(text, "0.02 ± 0.01 V/h"));
+  CHECK(contains(text, "Verdict: PASS"));
+  const auto json = report::render_json_report(record);
+  CHECK(json["drift"]["z_out_ohms_per_hour"].get<double>() == 200.0);
+  CHECK(json["drift"]["v_oc_stderr_volts_per_hour"].get<double>() == 0.04);
+  CHECK(json["figures"]["sweep_index"] == 7);
+}
+
+TEST_CASE("export rows carry every reading with its point, in order", "[report]") {
+  ReportTempDir dir("zout-report-export");
+  const ReportDatabase db = make_report_database(dir.path);
+  const auto record = report::load_run_record(db.file, db.production_run);
+  const auto rows = report::export_reading_rows(record);
+  const auto& columns = report::export_csv_columns();
+  REQUIRE(rows.size() == 30);
+  for (const auto& row : rows) REQUIRE(row.size() == columns.size());
+  const auto column = [&](const std::string& name) {
+    return static_cast<std::size_t>(std::find(columns.begin(), columns.end(), name) - columns.begin());
+  };
+  // Row 7: point 1 (step 1), its third reading.
+  const auto& row = rows[7];
+  CHECK(row[column("run_id")] == std::to_string(db.production_run));
+  CHECK(row[column("step_index")] == "1");
+  CHECK(row[column("reading_seq")] == "2");
+  CHECK(std::stod(row[column("reading_value")]) == 391.2 + 0.125);
+  CHECK(std::stod(row[column("measured_load_amps")]) == 1.0013e-5);
+  CHECK(row[column("set_load_ohms")].empty());
+  CHECK(row[column("settled")] == "1");
+  const auto json = report::export_json(record);
+  CHECK(json["points"][5]["readings"][4]["value"].get<double>() == 1.00033e-3);
+  CHECK(json["plan"]["dut"]["stages"] == 5);
+  CHECK(json["sweep_results"][0]["diode_i0_amps"].get<double>() == 3.2e-6);
+}
