@@ -8,7 +8,6 @@
 
 #include <CLI/CLI.hpp>
 #include <sqlite3.h>
-#include <cstdlib>
 #include <asio.hpp>
 
 #include "daemon/api/control_methods.h"
@@ -16,6 +15,10 @@
 #include "daemon/engine/engine.h"
 #include "daemon/plan/bench_config.h"
 #include "daemon/plan/config_error.h"
+
+namespace {
+constexpr long long kSqliteHeapLimitBytes = 1 << 20;  // all of zoutd's SQLite memory, soft
+}  // namespace
 
 int main(int argc, char** argv) {
   CLI::App app{"zoutd: runs voltage-multiplier test plans unattended on one bench"};
@@ -25,7 +28,10 @@ int main(int argc, char** argv) {
       ->capture_default_str();
   app.add_flag("--foreground", foreground, "Stay attached to the terminal (the default; for service managers)");
   CLI11_PARSE(app, argc, argv);
-  if (const char* limit = std::getenv("ZOUTD_EXPERIMENT_SQLITE_LIMIT")) sqlite3_soft_heap_limit64(std::atoll(limit));
+  // SQLite's page caches (2 MiB per connection by default, three connections here) would
+  // otherwise fill as the database grows and read as a slow RSS climb over a long soak; the
+  // writes only append, so a small shared budget costs nothing (scripts/bench-sweep measures it).
+  sqlite3_soft_heap_limit64(kSqliteHeapLimitBytes);
 
   try {
     const zout::BenchConfig bench = zout::load_bench_file(bench_path);

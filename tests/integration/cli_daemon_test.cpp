@@ -247,7 +247,7 @@ TEST_CASE("zout check prints the Cockcroft-Walton predictions and flags a plan o
 }
 
 TEST_CASE("every zout verb has --help", "[cli][daemon-cli]") {
-  for (const char* verb : {"status", "start", "watch", "abort", "runs", "bench", "check", "query", "scpi", "ports"}) {
+  for (const char* verb : {"status", "start", "watch", "abort", "runs", "report", "export", "bench", "check", "query", "scpi", "ports"}) {
     const auto help = zout_cli({verb, "--help"}, 10s);
     INFO(verb);
     CHECK(help.exit_code == 0);
