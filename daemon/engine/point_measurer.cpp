@@ -2,6 +2,7 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <cmath>
 #include <future>
 #include <numeric>
@@ -147,6 +148,9 @@ MeasuredPoint PointMeasurer::measure(int step_index, std::chrono::steady_clock::
     throw SafetyTrip(fmt::format("load: voltage reading {:g} V is above safety.max_output_volts {:g} V",
                                  point.load_volts, safety_.max_output_volts));
   }
+  // The load was read during the DC samples: keep the readings in the order they were taken.
+  std::stable_sort(point.readings.begin(), point.readings.end(),
+                   [](const RawReading& a, const RawReading& b) { return a.taken_at < b.taken_at; });
   point.taken_at = std::chrono::system_clock::now();
   return point;
 }
