@@ -211,7 +211,7 @@ std::string soak_plot_body(const RunRecord& record) {
     panel_plots.push_back(plot + "\n");
   }
   if (panel_plots.empty()) return "";
-  std::string script = data + common_settings + "set key top right font ',9'\nset xlabel 'time since start (h)' noenhanced\n";
+  std::string script = data + common_settings + "set key below horizontal nobox font ',9'\nset xlabel 'time since start (h)' noenhanced\n";
   script += fmt::format("set multiplot layout {},1 title {}\n", panel_plots.size(),
                         text(title_of(record, "soak trend")));
   for (const auto& plot : panel_plots) script += plot;
@@ -229,7 +229,7 @@ PlotFiles write_run_plots(const RunRecord& record, const std::filesystem::path& 
   const Figure figures[] = {
       {"iv", iv_plot_body(record), 600, "no point has a load current"},
       {"ripple", ripple_plot_body(record), 600, "no ripple reading and no plan to model it"},
-      {"soak", soak_plot_body(record), 900,
+      {"soak", soak_plot_body(record), 1000,
        record.header.kind == "soak" ? "no analysed sweep with a time" : "not a soak run"},
   };
   PlotFiles files;
