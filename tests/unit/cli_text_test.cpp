@@ -39,7 +39,7 @@ TEST_CASE("clock_time() writes m:ss under an hour and h:mm:ss above", "[cli-text
   CHECK(clock_time(-1.0) == "—");
 }
 
-TEST_CASE("--unit takes SERIAL or SERIAL@SLOT and names what is wrong", "[cli-text]") {
+TEST_CASE("a unit argument is SERIAL or SERIAL@SLOT; mistakes are named", "[cli-text]") {
   CHECK(parse_unit_argument("BB5-2611-0001").serial == "BB5-2611-0001");
   CHECK_FALSE(parse_unit_argument("BB5-2611-0001").slot.has_value());
   const auto on_panel = parse_unit_argument("BB5-2611-0001@7");
