@@ -10,21 +10,11 @@
 #include <sstream>
 
 #include "tests/support/child_process.h"
+#include "tests/support/temp_dir.h"
 
 using namespace zout::test;
 using namespace std::chrono_literals;
 using Catch::Contains;
-
-namespace {
-
-std::string read_text(const std::filesystem::path& path) {
-  std::ifstream in(path);
-  std::stringstream text;
-  text << in.rdbuf();
-  return text.str();
-}
-
-}  // namespace
 
 TEST_CASE("cmake --install puts programs, config, schema and the systemd unit in place", "[install]") {
   const auto prefix = std::filesystem::temp_directory_path() / ("zout-install-test-" + std::to_string(::getpid()));
@@ -42,11 +32,11 @@ TEST_CASE("cmake --install puts programs, config, schema and the systemd unit in
     INFO(file);
     CHECK(std::filesystem::is_regular_file(prefix / file));
   }
-  const std::string unit = read_text(prefix / "lib/systemd/system/zoutd.service");
+  const std::string unit = file_bytes(prefix / "lib/systemd/system/zoutd.service");
   CHECK_THAT(unit, Contains("ExecStart=" + (prefix / "bin/zoutd").string() + " --bench " +
                             (prefix / "etc/zout/bench.json").string() + " --foreground"));
   CHECK_THAT(unit, Contains("StateDirectory=zout"));
-  const std::string bench = read_text(prefix / "etc/zout/bench.json");
+  const std::string bench = file_bytes(prefix / "etc/zout/bench.json");
   CHECK_THAT(bench, Contains("\"database\": \"/var/lib/zout/zout.db\""));
   CHECK_THAT(bench, Contains("\"socket\": \"/run/zout/zoutd.sock\""));
 
@@ -61,8 +51,8 @@ TEST_CASE("cmake --install puts programs, config, schema and the systemd unit in
 
   // A station's edited bench file survives a reinstall.
   std::ofstream(prefix / "etc/zout/bench.json", std::ios::app) << "\n";
-  const std::string edited = read_text(prefix / "etc/zout/bench.json");
+  const std::string edited = file_bytes(prefix / "etc/zout/bench.json");
   REQUIRE(run_child({ZOUT_CMAKE_COMMAND, "--install", ZOUT_BUILD_DIR, "--prefix", prefix.string()}, 120s).exit_code == 0);
-  CHECK(read_text(prefix / "etc/zout/bench.json") == edited);
+  CHECK(file_bytes(prefix / "etc/zout/bench.json") == edited);
   std::filesystem::remove_all(prefix);
 }

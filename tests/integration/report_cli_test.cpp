@@ -11,6 +11,7 @@
 #include <regex>
 #include <sstream>
 
+#include "tests/support/temp_dir.h"
 #include "daemon/store/read_only_query.h"
 #include "tests/support/child_process.h"
 #include "tests/support/report_database.h"
@@ -26,13 +27,6 @@ ChildResult zout_cli(const std::vector<std::string>& args) {
   std::vector<std::string> argv = {ZOUT_CLI_PATH};
   argv.insert(argv.end(), args.begin(), args.end());
   return run_child(argv, 60s);
-}
-
-std::string file_bytes(const fs::path& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::ostringstream bytes;
-  bytes << in.rdbuf();
-  return bytes.str();
 }
 
 // Every row of `sql`, each value as a double (NULL as NaN).
@@ -144,7 +138,7 @@ std::vector<std::pair<double, double>> svg_markers(const std::string& svg, const
 }  // namespace
 
 TEST_CASE("zout report prints a run's report and exits 0", "[report]") {
-  ReportTempDir dir("zout-report-cli");
+  TempDir dir("zout-report-cli");
   const ReportDatabase db = make_report_database(dir.path);
   const auto r = zout_cli({"report", std::to_string(db.production_run), "--db", db.file.string()});
   INFO(r.out << r.err);
@@ -162,7 +156,7 @@ TEST_CASE("zout report prints a run's report and exits 0", "[report]") {
 }
 
 TEST_CASE("zout report and export name a missing run or database and exit 1", "[report]") {
-  ReportTempDir dir("zout-report-cli");
+  TempDir dir("zout-report-cli");
   const ReportDatabase db = make_report_database(dir.path);
   const auto r = zout_cli({"report", "99", "--db", db.file.string()});
   CHECK(r.exit_code == 1);
@@ -185,7 +179,7 @@ TEST_CASE("zout report and export name a missing run or database and exit 1", "[
 }
 
 TEST_CASE("zout report --plot writes SVG and PNG plots whose markers are the stored points", "[report]") {
-  ReportTempDir dir("zout-report-plot");
+  TempDir dir("zout-report-plot");
   const ReportDatabase db = make_report_database(dir.path);
   const fs::path plots = dir.path / "plots" / "new";
   const std::string id = std::to_string(db.production_run);
@@ -240,7 +234,7 @@ TEST_CASE("zout report --plot writes SVG and PNG plots whose markers are the sto
 }
 
 TEST_CASE("a soak run also gets its trend plot; a missing gnuplot is named", "[report]") {
-  ReportTempDir dir("zout-report-plot");
+  TempDir dir("zout-report-plot");
   const ReportDatabase db = make_report_database(dir.path);
   const std::string id = std::to_string(db.soak_run);
   const auto r = zout_cli({"report", id, "--plot", dir.path.string(), "--db", db.file.string()});
@@ -265,7 +259,7 @@ TEST_CASE("a soak run also gets its trend plot; a missing gnuplot is named", "[r
 }
 
 TEST_CASE("zout export writes every reading as CSV and the run as JSON, reading back exactly", "[report]") {
-  ReportTempDir dir("zout-report-export");
+  TempDir dir("zout-report-export");
   const ReportDatabase db = make_report_database(dir.path);
   const std::string id = std::to_string(db.production_run);
   const auto stored = select_numbers(

@@ -18,6 +18,7 @@
 #include <set>
 #include <sstream>
 
+#include "tests/support/temp_dir.h"
 #include "daemon/store/database.h"
 #include "daemon/store/statement.h"
 #include "daemon/store/store_writer.h"
@@ -26,18 +27,10 @@ extern char** environ;
 
 using namespace zout::store;
 namespace fs = std::filesystem;
+using zout::test::TempDir;
+using zout::test::file_bytes;
 
 namespace {
-
-struct TempDir {
-  fs::path path;
-  TempDir() {
-    path = fs::temp_directory_path() / ("zout-store-crash-" + std::to_string(::getpid()));
-    fs::remove_all(path);
-    fs::create_directories(path);
-  }
-  ~TempDir() { fs::remove_all(path); }
-};
 
 // Starts the writer, lets it run for `run_for`, kills it with SIGKILL, and returns everything
 // it printed on stdout (its stderr goes to `err_file`).
@@ -91,7 +84,7 @@ std::int64_t number(Database& db, const std::string& sql) {
 }  // namespace
 
 TEST_CASE("a writer killed at random moments leaves every committed point whole", "[store][store-crash]") {
-  TempDir dir;
+  TempDir dir("zout-store-crash");
   const fs::path db_path = dir.path / "crash.db";
   const fs::path err_file = dir.path / "writer.err";
   std::mt19937 random(20261201);  // seeded: the same kill times every run

@@ -9,6 +9,7 @@
 #include <fstream>
 #include <sstream>
 
+#include "tests/support/temp_dir.h"
 #include "daemon/store/store_writer.h"
 #include "tests/support/child_process.h"
 
@@ -16,26 +17,10 @@ using namespace zout::store;
 using namespace zout::test;
 using namespace std::chrono;
 namespace fs = std::filesystem;
+using zout::test::TempDir;
+using zout::test::file_bytes;
 
 namespace {
-
-struct TempDir {
-  fs::path path;
-  TempDir() {
-    static int counter = 0;
-    path = fs::temp_directory_path() / ("zout-query-cli-" + std::to_string(::getpid()) + "-" + std::to_string(counter++));
-    fs::remove_all(path);
-    fs::create_directories(path);
-  }
-  ~TempDir() { fs::remove_all(path); }
-};
-
-std::string file_bytes(const fs::path& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::ostringstream bytes;
-  bytes << in.rdbuf();
-  return bytes.str();
-}
 
 TimePoint at(int s) { return sys_days{year{2026} / 12 / 1} + hours(21) + minutes(15) + seconds(14 + s) + milliseconds(123); }
 
@@ -83,7 +68,7 @@ const std::string summary_sql = "SELECT serial, plan_name, state, v_oc_volts, z_
 }  // namespace
 
 TEST_CASE("zout query prints an aligned table by default", "[store][cli]") {
-  TempDir dir;
+  TempDir dir("zout-query-cli");
   const fs::path db = make_store(dir);
   const ChildResult r = zout_query({summary_sql, "--db", db.string()});
   INFO(r.err);
@@ -96,7 +81,7 @@ TEST_CASE("zout query prints an aligned table by default", "[store][cli]") {
 }
 
 TEST_CASE("zout query --format csv quotes per RFC 4180 with CRLF line ends", "[store][cli]") {
-  TempDir dir;
+  TempDir dir("zout-query-cli");
   const fs::path db = make_store(dir);
   const ChildResult r = zout_query({summary_sql, "--db", db.string(), "--format", "csv"});
   INFO(r.err);
@@ -110,7 +95,7 @@ TEST_CASE("zout query --format csv quotes per RFC 4180 with CRLF line ends", "[s
 }
 
 TEST_CASE("zout query --format json prints an array of objects with typed values", "[store][cli]") {
-  TempDir dir;
+  TempDir dir("zout-query-cli");
   const fs::path db = make_store(dir);
   const ChildResult r = zout_query({summary_sql + " LIMIT 1", "--db", db.string(), "--format", "json"});
   INFO(r.err);
@@ -127,7 +112,7 @@ TEST_CASE("zout query --format json prints an array of objects with typed values
 }
 
 TEST_CASE("zout query reads the database named by ZOUT_DB when --db is absent", "[store][cli]") {
-  TempDir dir;
+  TempDir dir("zout-query-cli");
   const fs::path db = make_store(dir);
   ::setenv("ZOUT_DB", db.c_str(), 1);
   const ChildResult r = zout_query({"SELECT count(*) AS runs FROM run"});
@@ -138,7 +123,7 @@ TEST_CASE("zout query reads the database named by ZOUT_DB when --db is absent", 
 }
 
 TEST_CASE("zout query refuses anything that would change the store, with exit 2", "[store][cli]") {
-  TempDir dir;
+  TempDir dir("zout-query-cli");
   const fs::path db = make_store(dir);
   const std::string before = file_bytes(db);
   const std::vector<std::pair<std::string, std::string>> refused = {
@@ -165,7 +150,7 @@ TEST_CASE("zout query refuses anything that would change the store, with exit 2"
 }
 
 TEST_CASE("zout query stops a runaway query at --timeout-ms with exit 6", "[store][cli]") {
-  TempDir dir;
+  TempDir dir("zout-query-cli");
   const fs::path db = make_store(dir);
   const ChildResult r = zout_query({"WITH RECURSIVE n(i) AS (SELECT 1 UNION ALL SELECT i + 1 FROM n) SELECT max(i) FROM n",
                                     "--db", db.string(), "--timeout-ms", "300"});
@@ -175,7 +160,7 @@ TEST_CASE("zout query stops a runaway query at --timeout-ms with exit 6", "[stor
 }
 
 TEST_CASE("zout query reports bad SQL, a missing database and a bad format clearly", "[store][cli]") {
-  TempDir dir;
+  TempDir dir("zout-query-cli");
   const fs::path db = make_store(dir);
   const ChildResult typo = zout_query({"SELEC 1", "--db", db.string()});
   REQUIRE(typo.exit_code == 2);

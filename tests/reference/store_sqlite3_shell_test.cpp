@@ -7,6 +7,7 @@
 
 #include <filesystem>
 
+#include "tests/support/temp_dir.h"
 #include "daemon/store/store_writer.h"
 #include "tests/support/child_process.h"
 
@@ -14,21 +15,12 @@ using namespace zout::store;
 using namespace zout::test;
 using namespace std::chrono;
 namespace fs = std::filesystem;
+using zout::test::TempDir;
+using zout::test::file_bytes;
 
 namespace {
 
 const char* const sqlite3_shell = "/usr/bin/sqlite3";
-
-struct TempDir {
-  fs::path path;
-  TempDir() {
-    static int counter = 0;
-    path = fs::temp_directory_path() / ("zout-store-shell-" + std::to_string(::getpid()) + "-" + std::to_string(counter++));
-    fs::remove_all(path);
-    fs::create_directories(path);
-  }
-  ~TempDir() { fs::remove_all(path); }
-};
 
 ChildResult shell(const fs::path& db, const std::string& sql, const std::string& mode = "-list") {
   REQUIRE(fs::exists(sqlite3_shell));  // scripts/install-deps installs the sqlite3 package
@@ -40,7 +32,7 @@ TimePoint at(int s) { return sys_days{year{2026} / 12 / 1} + hours(21) + minutes
 }  // namespace
 
 TEST_CASE("the sqlite3 shell applies schema/*.sql to the same schema StoreWriter makes", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-shell");
   const fs::path by_shell = dir.path / "shell.db";
   const fs::path by_writer = dir.path / "writer.db";
   const std::string schema = std::string(ZOUT_SOURCE_DIR) + "/schema";
@@ -62,7 +54,7 @@ TEST_CASE("the sqlite3 shell applies schema/*.sql to the same schema StoreWriter
 }
 
 TEST_CASE("the sqlite3 shell reads the views of a store StoreWriter wrote", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-shell");
   const fs::path db = dir.path / "z.db";
   std::int64_t run = 0;
   {

@@ -16,19 +16,6 @@
 
 namespace zout::test {
 
-// A directory under the system temporary directory, removed with everything in it.
-struct ReportTempDir {
-  std::filesystem::path path;
-  explicit ReportTempDir(const std::string& stem) {
-    static int counter = 0;
-    path = std::filesystem::temp_directory_path() /
-           (stem + "-" + std::to_string(::getpid()) + "-" + std::to_string(counter++));
-    std::filesystem::remove_all(path);
-    std::filesystem::create_directories(path);
-  }
-  ~ReportTempDir() { std::filesystem::remove_all(path); }
-};
-
 // 2026-12-01T21:15:14.123Z plus `s` seconds.
 inline store::TimePoint report_time(double s) {
   using namespace std::chrono;

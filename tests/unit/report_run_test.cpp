@@ -7,6 +7,7 @@
 
 #include <cmath>
 
+#include "tests/support/temp_dir.h"
 #include "daemon/report/model_comparison.h"
 #include "daemon/report/run_export.h"
 #include "daemon/report/run_record.h"
@@ -38,7 +39,7 @@ bool contains(const std::string& text, const std::string& part) { return text.fi
 }  // namespace
 
 TEST_CASE("a run record holds exactly the run, plan, points, readings, results and events stored", "[report]") {
-  ReportTempDir dir("zout-report-record");
+  TempDir dir("zout-report-record");
   const ReportDatabase db = make_report_database(dir.path);
   const report::RunRecord r = report::load_run_record(db.file, db.production_run);
 
@@ -116,7 +117,7 @@ TEST_CASE("a run record holds exactly the run, plan, points, readings, results a
 }
 
 TEST_CASE("a soak run record carries its trend, hours apart", "[report]") {
-  ReportTempDir dir("zout-report-record");
+  TempDir dir("zout-report-record");
   const ReportDatabase db = make_report_database(dir.path);
   const report::RunRecord r = report::load_run_record(db.file, db.soak_run);
   CHECK(r.header.kind == "soak");
@@ -138,7 +139,7 @@ TEST_CASE("a soak run record carries its trend, hours apart", "[report]") {
 }
 
 TEST_CASE("a missing run or database is a clear error naming the file", "[report]") {
-  ReportTempDir dir("zout-report-record");
+  TempDir dir("zout-report-record");
   const ReportDatabase db = make_report_database(dir.path);
   REQUIRE_THROWS_MATCHES(report::load_run_record(db.file, 42), report::RunNotFound,
                          Catch::Message("no run 42 in " + db.file.string()));
@@ -147,7 +148,7 @@ TEST_CASE("a missing run or database is a clear error naming the file", "[report
 }
 
 TEST_CASE("the text report shows the figures, the model comparison, points, verdict and events", "[report]") {
-  ReportTempDir dir("zout-report-text");
+  TempDir dir("zout-report-text");
   const ReportDatabase db = make_report_database(dir.path);
   const std::string text = report::render_text_report(report::load_run_record(db.file, db.production_run));
   INFO(text);
@@ -181,7 +182,7 @@ TEST_CASE("the text report shows the figures, the model comparison, points, verd
 }
 
 TEST_CASE("the JSON report's model comparison equals the book's formulas", "[report]") {
-  ReportTempDir dir("zout-report-json");
+  TempDir dir("zout-report-json");
   const ReportDatabase db = make_report_database(dir.path);
   const auto json = report::render_json_report(report::load_run_record(db.file, db.production_run));
   CHECK(json["run"]["serial"] == "CW5-0042");
@@ -211,7 +212,7 @@ TEST_CASE("the JSON report's model comparison equals the book's formulas", "[rep
 }
 
 TEST_CASE("a soak report shows the drift slopes with their standard errors", "[report]") {
-  ReportTempDir dir("zout-report-soak");
+  TempDir dir("zout-report-soak");
   const ReportDatabase db = make_report_database(dir.path);
   const auto record = report::load_run_record(db.file, db.soak_run);
   const std::string text = report::render_text_report(record);
@@ -228,7 +229,7 @@ TEST_CASE("a soak report shows the drift slopes with their standard errors", "[r
 }
 
 TEST_CASE("export rows carry every reading with its point, in order", "[report]") {
-  ReportTempDir dir("zout-report-export");
+  TempDir dir("zout-report-export");
   const ReportDatabase db = make_report_database(dir.path);
   const auto record = report::load_run_record(db.file, db.production_run);
   const auto rows = report::export_reading_rows(record);

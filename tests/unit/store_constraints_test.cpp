@@ -8,30 +8,22 @@
 #include <filesystem>
 #include <limits>
 
+#include "tests/support/temp_dir.h"
 #include "daemon/store/statement.h"
 #include "daemon/store/store_error.h"
 #include "daemon/store/store_writer.h"
 
 using namespace zout::store;
 namespace fs = std::filesystem;
+using zout::test::TempDir;
+using zout::test::file_bytes;
 
 namespace {
-
-struct TempDir {
-  fs::path path;
-  TempDir() {
-    static int counter = 0;
-    path = fs::temp_directory_path() / ("zout-store-constraints-" + std::to_string(::getpid()) + "-" + std::to_string(counter++));
-    fs::remove_all(path);
-    fs::create_directories(path);
-  }
-  ~TempDir() { fs::remove_all(path); }
-};
 
 // A store with one of everything: station 1, meter 1, plan 1, unit 1, run 1 (running), sweep 1,
 // point 1 with one reading.
 struct Fixture {
-  TempDir dir;
+  TempDir dir{"zout-store-constraints"};
   StoreWriter writer{dir.path / "z.db"};
   std::int64_t run = 0;
   std::int64_t sweep = 0;

@@ -8,6 +8,7 @@
 #include <fstream>
 #include <sstream>
 
+#include "tests/support/temp_dir.h"
 #include "daemon/store/database.h"
 #include "daemon/store/migrations.h"
 #include "daemon/store/statement.h"
@@ -16,31 +17,10 @@
 
 using namespace zout::store;
 namespace fs = std::filesystem;
+using zout::test::TempDir;
+using zout::test::file_bytes;
 
 namespace {
-
-// A fresh directory under the system temp dir, removed with everything in it.
-struct TempDir {
-  fs::path path;
-  TempDir() {
-    path = fs::temp_directory_path() / ("zout-store-migrations-" + std::to_string(::getpid()) + "-" +
-                                        std::to_string(counter()++));
-    fs::remove_all(path);
-    fs::create_directories(path);
-  }
-  ~TempDir() { fs::remove_all(path); }
-  static int& counter() {
-    static int n = 0;
-    return n;
-  }
-};
-
-std::string file_bytes(const fs::path& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::ostringstream bytes;
-  bytes << in.rdbuf();
-  return bytes.str();
-}
 
 void write_file(const fs::path& path, const std::string& text) { std::ofstream(path, std::ios::binary) << text; }
 
@@ -65,7 +45,7 @@ StoreError::Kind kind_of_failure(const std::function<void()>& action, std::strin
 }  // namespace
 
 TEST_CASE("a new database gets every migration, in order, recorded in user_version", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-migrations");
   const fs::path file = dir.path / "sub" / "zout.db";  // the directory is created too
   {
     StoreWriter writer(file);
@@ -103,7 +83,7 @@ TEST_CASE("the migrations built into zout are the files in schema/", "[store]") 
 }
 
 TEST_CASE("a database from a newer schema is refused and left byte for byte as it was", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-migrations");
   const fs::path file = dir.path / "newer.db";
   {
     Database db(file, Database::Access::read_write_create);  // rollback journal, as another tool might leave it
@@ -121,7 +101,7 @@ TEST_CASE("a database from a newer schema is refused and left byte for byte as i
 }
 
 TEST_CASE("a database with tables but no schema version is not ours and is left alone", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-migrations");
   const fs::path file = dir.path / "other.db";
   {
     Database db(file, Database::Access::read_write_create);
@@ -135,7 +115,7 @@ TEST_CASE("a database with tables but no schema version is not ours and is left 
 }
 
 TEST_CASE("a file that is not an SQLite database is refused and left alone", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-migrations");
   const fs::path file = dir.path / "notes.txt";
   write_file(file, std::string(4096, 'x'));
   std::string message;
@@ -145,7 +125,7 @@ TEST_CASE("a file that is not an SQLite database is refused and left alone", "[s
 }
 
 TEST_CASE("an older database gets only the migrations it lacks, and keeps its data", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-migrations");
   const fs::path old_schema = dir.path / "schema-v2";
   fs::create_directories(old_schema);
   for (const auto& m : embedded_migrations()) {
@@ -168,7 +148,7 @@ TEST_CASE("an older database gets only the migrations it lacks, and keeps its da
 }
 
 TEST_CASE("a migration that fails is rolled back whole and named", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-migrations");
   const fs::path schema = dir.path / "schema";
   fs::create_directories(schema);
   for (const auto& m : embedded_migrations()) write_file(schema / m.name, m.sql);
@@ -187,7 +167,7 @@ TEST_CASE("a migration that fails is rolled back whole and named", "[store]") {
 }
 
 TEST_CASE("migration files must be numbered from 001 without gaps and each be one transaction", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-migrations");
   const auto& first = embedded_migrations().front();
   SECTION("a gap") {
     write_file(dir.path / first.name, first.sql);

@@ -8,6 +8,7 @@
 #include <fstream>
 #include <sstream>
 
+#include "tests/support/temp_dir.h"
 #include "daemon/cli/query_command.h"
 #include "daemon/store/read_only_query.h"
 #include "daemon/store/store_error.h"
@@ -15,26 +16,10 @@
 
 using namespace zout::store;
 namespace fs = std::filesystem;
+using zout::test::TempDir;
+using zout::test::file_bytes;
 
 namespace {
-
-struct TempDir {
-  fs::path path;
-  TempDir() {
-    static int counter = 0;
-    path = fs::temp_directory_path() / ("zout-store-query-" + std::to_string(::getpid()) + "-" + std::to_string(counter++));
-    fs::remove_all(path);
-    fs::create_directories(path);
-  }
-  ~TempDir() { fs::remove_all(path); }
-};
-
-std::string file_bytes(const fs::path& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::ostringstream bytes;
-  bytes << in.rdbuf();
-  return bytes.str();
-}
 
 struct Outcome {
   StoreError::Kind kind;
@@ -63,7 +48,7 @@ fs::path make_store(const TempDir& dir) {
 }  // namespace
 
 TEST_CASE("a query returns column names and typed values in order", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-query");
   const fs::path db = make_store(dir);
   ReadOnlyQuery query(db);
   std::vector<std::string> names;
@@ -83,7 +68,7 @@ TEST_CASE("a query returns column names and typed values in order", "[store]") {
 }
 
 TEST_CASE("a query refuses writes, attachments, settings and extensions by name, and changes nothing", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-query");
   const fs::path db = make_store(dir);
   const std::string before = file_bytes(db);
   const std::vector<std::pair<std::string, std::string>> refused = {
@@ -118,7 +103,7 @@ TEST_CASE("a query refuses writes, attachments, settings and extensions by name,
 }
 
 TEST_CASE("a query may read the schema with PRAGMAs that only look", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-query");
   const fs::path db = make_store(dir);
   ReadOnlyQuery query(db);
   for (const std::string sql : {"PRAGMA table_info(station)", "SELECT name FROM pragma_table_info('station')",
@@ -131,7 +116,7 @@ TEST_CASE("a query may read the schema with PRAGMAs that only look", "[store]") 
 }
 
 TEST_CASE("a query is one statement of valid SQL", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-query");
   const fs::path db = make_store(dir);
   Outcome two = failure_of(db, "SELECT 1; SELECT 2");
   REQUIRE(two.kind == StoreError::Kind::bad_sql);
@@ -151,7 +136,7 @@ TEST_CASE("a query is one statement of valid SQL", "[store]") {
 }
 
 TEST_CASE("a runaway query is stopped at its time limit", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-query");
   const fs::path db = make_store(dir);
   const auto start = std::chrono::steady_clock::now();
   const Outcome outcome =
@@ -164,7 +149,7 @@ TEST_CASE("a runaway query is stopped at its time limit", "[store]") {
 }
 
 TEST_CASE("a missing database is an error naming the file", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-query");
   try {
     ReadOnlyQuery query(dir.path / "absent.db");
     FAIL("opened a missing file");

@@ -7,6 +7,7 @@
 #include <cmath>
 #include <filesystem>
 
+#include "tests/support/temp_dir.h"
 #include "daemon/cli/query_command.h"
 #include "daemon/store/read_only_query.h"
 #include "daemon/store/sha256.h"
@@ -17,20 +18,11 @@
 using namespace zout::store;
 using namespace std::chrono;
 namespace fs = std::filesystem;
+using zout::test::TempDir;
+using zout::test::file_bytes;
 using Rows = std::vector<std::vector<std::string>>;
 
 namespace {
-
-struct TempDir {
-  fs::path path;
-  TempDir() {
-    static int counter = 0;
-    path = fs::temp_directory_path() / ("zout-store-writer-" + std::to_string(::getpid()) + "-" + std::to_string(counter++));
-    fs::remove_all(path);
-    fs::create_directories(path);
-  }
-  ~TempDir() { fs::remove_all(path); }
-};
 
 // Every row of `sql` as text: integers in decimal, reals in shortest exact form, NULL as "NULL".
 Rows select(const fs::path& db, const std::string& sql) {
@@ -62,7 +54,7 @@ TEST_CASE("times are written as ISO-8601 UTC with milliseconds", "[store]") {
 }
 
 TEST_CASE("station, instrument, plan and unit are recorded once and found again", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-writer");
   const fs::path file = dir.path / "z.db";
   StoreWriter writer(file);
 
@@ -104,7 +96,7 @@ TEST_CASE("station, instrument, plan and unit are recorded once and found again"
 }
 
 TEST_CASE("runs, sweeps, points with readings, sweep results and events round-trip", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-writer");
   const fs::path file = dir.path / "z.db";
   StoreWriter writer(file);
   const auto station = writer.record_station("line-1", at());
@@ -207,7 +199,7 @@ TEST_CASE("runs, sweeps, points with readings, sweep results and events round-tr
 }
 
 TEST_CASE("runs left running are marked interrupted at start-up", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-writer");
   const fs::path file = dir.path / "z.db";
   StoreWriter writer(file);
   const auto station = writer.record_station("line-1", at());
@@ -223,7 +215,7 @@ TEST_CASE("runs left running are marked interrupted at start-up", "[store]") {
 }
 
 TEST_CASE("a clock stepped back does not stop a run or a sweep from ending", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-writer");
   const fs::path file = dir.path / "z.db";
   StoreWriter writer(file);
   const auto station = writer.record_station("line-1", at());
@@ -241,7 +233,7 @@ TEST_CASE("a clock stepped back does not stop a run or a sweep from ending", "[s
 }
 
 TEST_CASE("the views answer the questions users ask", "[store]") {
-  TempDir dir;
+  TempDir dir("zout-store-writer");
   const fs::path file = dir.path / "z.db";
   StoreWriter writer(file);
   const auto station = writer.record_station("line-1", at());
