@@ -4,7 +4,6 @@
 #include <nlohmann/json.hpp>
 
 #include <cmath>
-#include <cstdlib>
 #include <iostream>
 #include <memory>
 

@@ -40,7 +40,8 @@ int run_start(const StartOptions& o) {
   // The daemon reads the plan file itself (it may run as another user in another directory).
   const std::string plan_path = std::filesystem::absolute(o.plan).string();
   json params = {{"plan_path", plan_path}, {"units", units_json(units)}};
-  params["operator"] = o.operator_name.empty() ? std::string(getlogin() ? getlogin() : "") : o.operator_name;
+  const char* login = o.operator_name.empty() ? ::getlogin() : nullptr;
+  params["operator"] = login != nullptr ? std::string(login) : o.operator_name;
   if (!o.note.empty()) params["note"] = o.note;
   const auto ids = client.call("run.start", params).at("run_ids").get<std::vector<std::int64_t>>();
   if (o.json_output && !o.watch) {
