@@ -59,7 +59,8 @@ int run_bench(const BenchOptions& o) {
       row["status"] = status;
     } catch (const IoError& e) {
       row["status"] = std::string(e.what());
-      code = e.kind() == IoErrorKind::timeout && code == exit_ok ? exit_timeout : exit_link;
+      // A link that could not be used at all outranks one that was only slow.
+      code = e.kind() == IoErrorKind::timeout && code != exit_link ? exit_timeout : exit_link;
     } catch (const std::exception& e) {
       row["status"] = std::string(e.what());
       code = exit_link;
