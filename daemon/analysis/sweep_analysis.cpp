@@ -7,6 +7,7 @@
 
 #include "daemon/analysis/cascade_model.h"
 #include "daemon/analysis/input_checks.h"
+#include "daemon/analysis/rated_step.h"
 #include "daemon/analysis/ripple.h"
 
 namespace zout::analysis {
@@ -98,14 +99,12 @@ SweepResult analyze_sweep(std::span<const SweepPoint> points, const SweepParamet
   for (const SweepPoint& s : points) largest_step = std::max(largest_step, s.set_amps);
   r.rated_amps = p.rated_amps.value_or(largest_step);
   std::vector<const SweepPoint*> at_rated;
-  if (r.rated_amps > 0.0) {
-    double nearest = std::numeric_limits<double>::infinity();
-    for (const SweepPoint& s : points) {
-      if (std::abs(s.set_amps - r.rated_amps) < std::abs(nearest - r.rated_amps)) nearest = s.set_amps;
-    }
-    if (std::abs(nearest - r.rated_amps) <= 0.05 * r.rated_amps) {
+  {
+    std::vector<double> set_amps;
+    for (const SweepPoint& s : points) set_amps.push_back(s.set_amps);
+    if (const auto rated_index = rated_step_index(set_amps, r.rated_amps)) {
       for (const SweepPoint& s : points) {
-        if (s.set_amps == nearest) at_rated.push_back(&s);
+        if (s.set_amps == set_amps[*rated_index]) at_rated.push_back(&s);
       }
     }
   }
@@ -176,23 +175,32 @@ SweepResult analyze_sweep(std::span<const SweepPoint> points, const SweepParamet
 
   // Ripple at the rated load: mean over the points at the rated step that have a ripple figure.
   if (at_rated.empty()) {
-    r.ripple_pp_volts_at_rated = Computed<double>::missing(
+    const std::string why =
         r.rated_amps > 0.0 ? "ripple: no step within 5% of the rated load " + format_number(r.rated_amps) + " A"
-                           : "ripple: the sweep has no non-zero load step");
+                           : "ripple: the sweep has no non-zero load step";
+    r.ripple_pp_volts_at_rated = Computed<double>::missing(why);
+    r.ripple_rms_volts_at_rated = Computed<double>::missing(why);
   } else {
-    double sum = 0.0;
-    std::size_t n = 0;
+    double sum_pp = 0.0;
+    double sum_rms = 0.0;
+    std::size_t n_pp = 0;
+    std::size_t n_rms = 0;
     for (std::size_t i = 0; i < points.size(); ++i) {
-      const bool rated = std::find(at_rated.begin(), at_rated.end(), &points[i]) != at_rated.end();
-      if (rated && r.points[i].ripple_pp_volts) {
-        sum += r.points[i].ripple_pp_volts.value();
-        ++n;
+      if (std::find(at_rated.begin(), at_rated.end(), &points[i]) == at_rated.end()) continue;
+      if (r.points[i].ripple_pp_volts) {
+        sum_pp += r.points[i].ripple_pp_volts.value();
+        ++n_pp;
+      }
+      if (points[i].ac_rms_volts) {
+        sum_rms += *points[i].ac_rms_volts;
+        ++n_rms;
       }
     }
+    const std::string why = "ripple: no ripple reading at the rated load " + format_number(r.rated_amps) + " A";
     r.ripple_pp_volts_at_rated =
-        n > 0 ? Computed<double>::of(sum / static_cast<double>(n))
-              : Computed<double>::missing("ripple: no ripple reading at the rated load " +
-                                          format_number(r.rated_amps) + " A");
+        n_pp > 0 ? Computed<double>::of(sum_pp / static_cast<double>(n_pp)) : Computed<double>::missing(why);
+    r.ripple_rms_volts_at_rated =
+        n_rms > 0 ? Computed<double>::of(sum_rms / static_cast<double>(n_rms)) : Computed<double>::missing(why);
   }
 
   r.figures.v_oc_volts = r.v_oc ? Computed<double>::of(r.v_oc->volts.value)

@@ -89,6 +89,8 @@ struct SweepResult {
   Computed<DiodeCurveFit> diode_curve = Computed<DiodeCurveFit>::missing("not computed");
   Computed<double> mean_diode_drop_volts = Computed<double>::missing("not computed");
   Computed<double> ripple_pp_volts_at_rated = Computed<double>::missing("not computed");
+  // The AC RMS behind it: the mean over the same points (the rated step, rated_step.h).
+  Computed<double> ripple_rms_volts_at_rated = Computed<double>::missing("not computed");
   SweepFigures figures;  // what the limits apply to
   Verdict verdict;       // judge_sweep(figures, limits)
 };

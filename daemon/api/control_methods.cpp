@@ -1,12 +1,11 @@
 #include "control_methods.h"
 
-#include <sqlite3.h>
-
 #include <fmt/format.h>
 
 #include "daemon/plan/config_error.h"
 #include "daemon/plan/json_reader.h"
 #include "daemon/plan/plan.h"
+#include "daemon/store/record_json.h"
 #include "daemon/store/store_error.h"
 
 namespace zout {
@@ -25,31 +24,10 @@ auto with_params(const std::string& method, const nlohmann::json& params, Read r
   }
 }
 
-// The current row of `s` as a JSON object keyed by column name, values typed as stored.
-nlohmann::json row_object(store::Statement& s) {
-  sqlite3_stmt* h = s.handle();
-  nlohmann::json row = nlohmann::json::object();
-  for (int i = 0; i < sqlite3_column_count(h); ++i) {
-    const std::string name = sqlite3_column_name(h, i);
-    switch (sqlite3_column_type(h, i)) {
-      case SQLITE_NULL: row[name] = nullptr; break;
-      case SQLITE_INTEGER: row[name] = s.column_int(i); break;
-      case SQLITE_FLOAT: row[name] = s.column_real(i); break;
-      default: row[name] = s.column_text(i); break;
-    }
-  }
-  // The verdict reasons are stored as a JSON array in text; hand them over as an array.
-  if (row.contains("verdict_reasons_json") && row["verdict_reasons_json"].is_string()) {
-    row["verdict_reasons"] = nlohmann::json::parse(row["verdict_reasons_json"].get<std::string>(), nullptr, false);
-    row.erase("verdict_reasons_json");
-  }
-  return row;
-}
-
 }  // namespace
 
 ControlMethods::ControlMethods(Engine& engine)
-    : engine_(engine), reader_(engine.bench().database_path, store::Database::Access::read_only) {}
+    : engine_(engine), reader_(engine.bench().database_path) {}
 
 nlohmann::json ControlMethods::call(const rpc::Request& request, ControlServer::CallContext& context) {
   const auto& m = request.method;
@@ -125,10 +103,9 @@ nlohmann::json ControlMethods::run_abort(const nlohmann::json& params) {
 }
 
 nlohmann::json ControlMethods::run_row(std::int64_t run_id) {
-  auto use = reader_.cached("SELECT * FROM run_summary WHERE run_id = :run");
-  use->bind_int(":run", run_id);
-  if (!use->step()) throw rpc::RpcError(rpc::not_found, fmt::format("no run {}", run_id));
-  return row_object(*use);
+  const auto run = reader_.run(run_id);
+  if (!run) throw rpc::RpcError(rpc::not_found, fmt::format("no run {}", run_id));
+  return store::run_summary_json(*run);
 }
 
 nlohmann::json ControlMethods::run_get(const nlohmann::json& params) {
@@ -138,40 +115,25 @@ nlohmann::json ControlMethods::run_get(const nlohmann::json& params) {
     return id;
   });
   nlohmann::json run = run_row(run_id);
-  {
-    auto use = reader_.cached(
-        "SELECT count(*) FROM point pt JOIN sweep w ON w.sweep_id = pt.sweep_id WHERE w.run_id = :run");
-    use->bind_int(":run", run_id);
-    use->step();
-    run["points"] = use->column_int(0);
-  }
+  run["points"] = reader_.point_count(run_id);
   const auto progress = engine_.progress();
   run["progress"] = progress && progress->run_id == run_id ? progress->to_json() : nlohmann::json();
   return run;
 }
 
 nlohmann::json ControlMethods::run_list(const nlohmann::json& params) {
-  struct Filter {
-    std::string state;
-    std::string serial;
-    long long limit = 50;
-  };
-  const Filter filter = with_params("run.list", params, [](JsonReader& p) {
-    Filter f;
+  const store::RunFilter filter = with_params("run.list", params, [](JsonReader& p) {
+    store::RunFilter f;
     if (auto state = p.optional_member("state")) {
-      f.state = state->choice({"queued", "running", "passed", "failed", "aborted", "interrupted", "error"});
+      f.state = store::run_state_named(state->choice(store::run_state_word_list()));
     }
     if (auto serial = p.optional_member("serial")) f.serial = serial->string();
-    if (auto limit = p.optional_member("limit")) f.limit = limit->integer(1, 10'000);
+    if (auto limit = p.optional_member("limit")) f.limit = static_cast<int>(limit->integer(1, 10'000));
     p.refuse_unknown_keys();
     return f;
   });
-  auto use = reader_.cached(
-      "SELECT * FROM run_summary WHERE (:state = '' OR state = :state) AND (:serial = '' OR serial = :serial) "
-      "ORDER BY run_id DESC LIMIT :limit");
-  use->bind_text(":state", filter.state).bind_text(":serial", filter.serial).bind_int(":limit", filter.limit);
   nlohmann::json runs = nlohmann::json::array();
-  while (use->step()) runs.push_back(row_object(*use));
+  for (const auto& run : reader_.runs(filter)) runs.push_back(store::run_summary_json(run));
   return {{"runs", runs}};
 }
 

@@ -11,7 +11,7 @@
 
 #include "daemon/api/control_server.h"
 #include "daemon/engine/engine.h"
-#include "daemon/store/database.h"
+#include "daemon/store/run_reader.h"
 
 namespace zout {
 
@@ -31,7 +31,7 @@ class ControlMethods {
   nlohmann::json run_row(std::int64_t run_id);
 
   Engine& engine_;
-  store::Database reader_;
+  store::RunReader reader_;
 };
 
 }  // namespace zout

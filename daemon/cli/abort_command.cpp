@@ -7,10 +7,10 @@
 
 #include "daemon/cli/client_paths.h"
 #include "daemon/cli/command_errors.h"
-#include "daemon/cli/control_client.h"
+#include "daemon/api/control_client.h"
 #include "daemon/cli/daemon_verbs.h"
 #include "daemon/cli/exit_codes.h"
-#include "daemon/cli/run_follower.h"
+#include "daemon/store/run_state.h"
 
 namespace zout::cli {
 namespace {
@@ -29,14 +29,14 @@ int run_abort(const AbortOptions& o) {
   client.call("run.abort", {{"run_id", o.run}});
   const auto deadline = std::chrono::steady_clock::now() + std::chrono::duration<double>(o.wait_s);
   std::string state = client.call("run.get", {{"run_id", o.run}}).value("state", "");
-  while (!is_final_state(state) && std::chrono::steady_clock::now() < deadline) {
+  while (!store::is_final_state_word(state) && std::chrono::steady_clock::now() < deadline) {
     const auto message = client.next_notification(std::chrono::milliseconds(200));
     if (message && message->value("method", "") == "run.state" &&
         message->at("params").value("run_id", std::int64_t{0}) == o.run) {
       state = message->at("params").value("state", state);
     }
   }
-  if (!is_final_state(state)) {
+  if (!store::is_final_state_word(state)) {
     std::cerr << fmt::format("zout abort: run {} asked to abort but still {} after {:g} s; see zout status\n", o.run,
                              state, o.wait_s);
     return exit_failure;

@@ -3,7 +3,8 @@
 #include <iostream>
 #include <stdexcept>
 
-#include "daemon/cli/control_client.h"
+#include "daemon/api/json_rpc.h"
+#include "daemon/api/control_client.h"
 #include "daemon/cli/exit_codes.h"
 #include "daemon/plan/config_error.h"
 #include "daemon/store/store_error.h"
@@ -20,8 +21,8 @@ int report_current_exception(const std::string& verb) {
     return exit_no_daemon;
   } catch (const ControlCallError& e) {
     say(e.what());
-    if (e.code() == -32001) return exit_refused;    // refused: the plan or request will not be run
-    if (e.code() == -32602) return exit_usage;      // invalid params
+    if (e.code() == rpc::refused) return exit_refused;       // the plan or request will not be run
+    if (e.code() == rpc::invalid_params) return exit_usage;  // the request named something wrongly
     return exit_failure;
   } catch (const ConfigError& e) {
     say(e.what());

@@ -8,6 +8,7 @@
 
 #include "daemon/cli/exit_codes.h"
 #include "daemon/cli/si_format.h"
+#include "daemon/store/run_state.h"
 
 namespace zout::cli {
 namespace {
@@ -25,15 +26,15 @@ std::optional<double> number_at(const json& object, const char* key) {
 
 }  // namespace
 
-bool is_final_state(const std::string& state) {
-  return state == "passed" || state == "failed" || state == "aborted" || state == "interrupted" || state == "error";
-}
-
 int exit_status_for(const std::map<std::int64_t, std::string>& states) {
   int code = exit_ok;
-  for (const auto& [id, state] : states) {
-    if (state == "aborted" || state == "interrupted" || state == "error") return exit_run_incomplete;
-    if (state == "failed") code = exit_unit_failed;
+  for (const auto& [id, word] : states) {
+    const auto state = store::run_state_named(word);
+    if (state == store::RunState::failed) {
+      code = exit_unit_failed;
+    } else if (state != store::RunState::passed) {
+      return exit_run_incomplete;  // aborted, interrupted, error, or a state that never ended
+    }
   }
   return code;
 }
@@ -57,14 +58,14 @@ std::map<std::int64_t, std::string> RunFollower::follow(const std::vector<std::i
     }
     if (f.state == "running") f.started_s = now_s();
     runs_[id] = f;
-    if (is_final_state(f.state) && !json_lines_) {
+    if (store::is_final_state_word(f.state) && !json_lines_) {
       out_ << fmt::format("run {} {}: already ended {}\n", id, f.serial, f.state);
-    } else if (is_final_state(f.state)) {
+    } else if (store::is_final_state_word(f.state)) {
       out_ << json{{"method", "run.state"}, {"params", {{"run_id", id}, {"state", f.state}}}}.dump() << "\n";
     }
   }
   const auto all_ended = [&] {
-    return std::all_of(runs_.begin(), runs_.end(), [](const auto& r) { return is_final_state(r.second.state); });
+    return std::all_of(runs_.begin(), runs_.end(), [](const auto& r) { return store::is_final_state_word(r.second.state); });
   };
   while (!all_ended()) {
     const auto message = client_.next_notification(std::chrono::milliseconds(500));
@@ -98,7 +99,7 @@ void RunFollower::on_notification(const json& message) {
         out_ << fmt::format("run {} {}: running\n", id, f.serial);
       }
     }
-    if (is_final_state(f.state) && !json_lines_) print_end(id, params);
+    if (store::is_final_state_word(f.state) && !json_lines_) print_end(id, params);
   } else if (method == "point") {
     f.points_done += 1;
     f.step_count = params.value("step_count", f.step_count);

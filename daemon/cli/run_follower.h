@@ -11,7 +11,7 @@
 #include <string>
 #include <vector>
 
-#include "daemon/cli/control_client.h"
+#include "daemon/api/control_client.h"
 
 namespace zout::cli {
 
@@ -51,8 +51,6 @@ class RunFollower {
   std::map<std::int64_t, Followed> runs_;
 };
 
-// True when `state` is final.
-bool is_final_state(const std::string& state);
 // The exit status followed runs earn: exit_run_incomplete if any was aborted, interrupted or
 // ended in error; else exit_unit_failed if any failed; else exit_ok.
 int exit_status_for(const std::map<std::int64_t, std::string>& states);

@@ -2,6 +2,8 @@
 // zoutd is running or not).
 #include <fmt/format.h>
 
+#include <chrono>
+#include <cmath>
 #include <filesystem>
 #include <iostream>
 
@@ -13,7 +15,8 @@
 #include "daemon/cli/history_verbs.h"
 #include "daemon/cli/si_format.h"
 #include "daemon/cli/text_table.h"
-#include "daemon/store/database.h"
+#include "daemon/store/record_json.h"
+#include "daemon/store/run_reader.h"
 
 namespace zout::cli {
 namespace {
@@ -35,36 +38,30 @@ int run_runs(const RunsOptions& o) {
                                          "FILE / ZOUT_DB / --bench FILE)",
                                          path));
   }
-  store::Database db(path, store::Database::Access::read_only);
-  auto use = db.cached(
-      "SELECT run_id, serial, plan_name, kind, state, started_at, ended_at, sweeps, v_oc_volts, z_out_ohms, "
-      "ripple_rated_pp_volts, verdict, "
-      "round((julianday(coalesce(ended_at, strftime('%Y-%m-%dT%H:%M:%fZ', 'now'))) - julianday(started_at)) * 86400.0, 1) "
-      "FROM run_summary WHERE (:state = '' OR state = :state) AND (:serial = '' OR serial = :serial) "
-      "ORDER BY run_id DESC LIMIT :limit");
-  use->bind_text(":state", o.state).bind_text(":serial", o.serial).bind_int(":limit", o.limit);
-  const auto opt_real = [&](int column) { return use->is_null(column) ? std::optional<double>() : use->column_real(column); };
-  const auto text = [&](int column) { return use->is_null(column) ? std::string() : use->column_text(column); };
+  store::RunReader reader(path);
+  store::RunFilter filter;
+  if (!o.state.empty()) filter.state = store::run_state_named(o.state);
+  filter.serial = o.serial;
+  filter.limit = o.limit;
   json rows = json::array();
   TextTable table({"RUN", "SERIAL", "PLAN", "STATE", "STARTED", "TOOK", "V_OC", "Z_OUT", "RIPPLE@RATED"});
-  while (use->step()) {
-    const auto took_s = opt_real(12);
-    rows.push_back({{"run_id", use->column_int(0)},
-                    {"serial", text(1)},
-                    {"plan_name", text(2)},
-                    {"kind", text(3)},
-                    {"state", text(4)},
-                    {"started_at", use->is_null(5) ? json() : json(text(5))},
-                    {"ended_at", use->is_null(6) ? json() : json(text(6))},
-                    {"sweeps", use->column_int(7)},
-                    {"v_oc_volts", opt_real(8) ? json(*opt_real(8)) : json()},
-                    {"z_out_ohms", opt_real(9) ? json(*opt_real(9)) : json()},
-                    {"ripple_rated_pp_volts", opt_real(10) ? json(*opt_real(10)) : json()},
-                    {"verdict", use->is_null(11) ? json() : json(text(11))},
-                    {"duration_s", took_s ? json(*took_s) : json()}});
-    table.add_row({std::to_string(use->column_int(0)), text(1), text(2), text(4), text(5).substr(0, 19),
-                   took_s ? clock_time(*took_s) : "", si(opt_real(8), "V", 5), si(opt_real(9), "Ω", 3),
-                   si(opt_real(10), "V", 3)});
+  for (const auto& run : reader.runs(filter)) {
+    std::optional<double> took_s;
+    if (run.started_at) {
+      const auto end = run.ended_at.value_or(std::chrono::system_clock::now());
+      took_s = std::round(std::chrono::duration<double>(end - *run.started_at).count() * 10.0) / 10.0;
+    }
+    json row = store::run_summary_json(run);
+    row["duration_s"] = took_s ? json(*took_s) : json();
+    rows.push_back(row);
+    const auto figure = [&run](std::optional<double> store::SweepResultRecord::*member) {
+      return run.latest_result ? (*run.latest_result).*member : std::nullopt;
+    };
+    table.add_row({std::to_string(run.run_id), run.serial, run.plan_name, std::string(store::to_string(run.state)),
+                   run.started_at ? store::format_utc(*run.started_at).substr(0, 19) : "",
+                   took_s ? clock_time(*took_s) : "", si(figure(&store::SweepResultRecord::v_oc_volts), "V", 5),
+                   si(figure(&store::SweepResultRecord::z_out_ohms), "Ω", 3),
+                   si(figure(&store::SweepResultRecord::ripple_rated_pp_volts), "V", 3)});
   }
   if (o.json_output) {
     std::cout << rows.dump(2) << "\n";
@@ -82,7 +79,7 @@ void add_runs_command(CLI::App& app, int& exit_code) {
   auto o = std::make_shared<RunsOptions>();
   auto* verb = app.add_subcommand("runs", "List recent runs, newest first (reads the database; no daemon needed)");
   verb->add_option("--state", o->state, "Only runs in this state")
-      ->check(CLI::IsMember({"queued", "running", "passed", "failed", "aborted", "interrupted", "error"}));
+      ->check(CLI::IsMember(store::run_state_word_list()));
   verb->add_option("--serial", o->serial, "Only runs of this unit");
   verb->add_option("--limit", o->limit, "At most this many runs")->default_val(20)->check(CLI::Range(1, 100000));
   verb->add_flag("--json", o->json_output, "Print a JSON array");

@@ -7,7 +7,7 @@
 
 #include "daemon/cli/client_paths.h"
 #include "daemon/cli/command_errors.h"
-#include "daemon/cli/control_client.h"
+#include "daemon/api/control_client.h"
 #include "daemon/cli/daemon_verbs.h"
 #include "daemon/cli/exit_codes.h"
 #include "daemon/cli/run_follower.h"

@@ -5,6 +5,7 @@
 #include <algorithm>
 #include <cmath>
 
+#include "daemon/analysis/rated_step.h"
 #include "daemon/plan/json_reader.h"
 
 namespace zout {
@@ -173,12 +174,7 @@ Plan parse_plan(const nlohmann::json& document, const std::string& origin) {
 std::optional<std::size_t> Plan::rated_step_index() const {
   if (load.mode != LoadStepMode::current || load.steps.empty()) return std::nullopt;
   const double rated = load.rated_amps.value_or(*std::max_element(load.steps.begin(), load.steps.end()));
-  std::size_t nearest = 0;
-  for (std::size_t i = 1; i < load.steps.size(); ++i) {
-    if (std::abs(load.steps[i] - rated) < std::abs(load.steps[nearest] - rated)) nearest = i;
-  }
-  if (!(rated > 0.0) || std::abs(load.steps[nearest] - rated) > 0.05 * rated) return std::nullopt;
-  return nearest;
+  return analysis::rated_step_index(load.steps, rated);
 }
 
 bool Plan::reads_ripple_at(std::size_t step_index) const {

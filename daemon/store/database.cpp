@@ -7,6 +7,9 @@
 
 namespace zout::store {
 
+void limit_process_memory_bytes(std::int64_t bytes) { sqlite3_soft_heap_limit64(bytes); }
+
+
 Database::Database(std::filesystem::path path, Access access)
     : path_(std::move(path)), where_(fmt::format("database {}", path_.string())) {
   if (access == Access::read_only && !std::filesystem::exists(path_)) {

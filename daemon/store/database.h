@@ -14,6 +14,10 @@ struct sqlite3;
 
 namespace zout::store {
 
+// Bounds all SQLite memory of the process (page caches included) to about `bytes`, softly:
+// SQLite frees cache pages to stay under it. For a long-running daemon whose RSS must stay flat.
+void limit_process_memory_bytes(std::int64_t bytes);
+
 class Database {
  public:
   enum class Access {

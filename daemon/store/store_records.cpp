@@ -4,19 +4,6 @@ namespace zout::store {
 
 std::string_view to_string(RunKind kind) { return kind == RunKind::production ? "production" : "soak"; }
 
-std::string_view to_string(RunState state) {
-  switch (state) {
-    case RunState::queued: return "queued";
-    case RunState::running: return "running";
-    case RunState::passed: return "passed";
-    case RunState::failed: return "failed";
-    case RunState::aborted: return "aborted";
-    case RunState::interrupted: return "interrupted";
-    case RunState::error: return "error";
-  }
-  return "error";
-}
-
 std::string_view to_string(EventLevel level) {
   switch (level) {
     case EventLevel::info: return "info";
@@ -27,5 +14,24 @@ std::string_view to_string(EventLevel level) {
 }
 
 std::string_view to_string(Verdict verdict) { return verdict == Verdict::pass ? "pass" : "fail"; }
+
+std::optional<RunKind> run_kind_named(std::string_view word) {
+  if (word == "production") return RunKind::production;
+  if (word == "soak") return RunKind::soak;
+  return std::nullopt;
+}
+
+std::optional<EventLevel> event_level_named(std::string_view word) {
+  for (const EventLevel level : {EventLevel::info, EventLevel::warning, EventLevel::error}) {
+    if (to_string(level) == word) return level;
+  }
+  return std::nullopt;
+}
+
+std::optional<Verdict> verdict_named(std::string_view word) {
+  if (word == "pass") return Verdict::pass;
+  if (word == "fail") return Verdict::fail;
+  return std::nullopt;
+}
 
 }  // namespace zout::store

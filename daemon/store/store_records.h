@@ -9,20 +9,23 @@
 #include <string_view>
 #include <vector>
 
+#include "daemon/store/run_state.h"
 #include "daemon/store/utc_time.h"
 
 namespace zout::store {
 
 enum class RunKind { production, soak };
-enum class RunState { queued, running, passed, failed, aborted, interrupted, error };
 enum class EventLevel { info, warning, error };
 enum class Verdict { pass, fail };
 
-// The words the schema uses ("production", "running", "warning", "pass", ...).
+// The words the schema uses ("production", "warning", "pass", ...); run states: run_state.h.
 std::string_view to_string(RunKind kind);
-std::string_view to_string(RunState state);
 std::string_view to_string(EventLevel level);
 std::string_view to_string(Verdict verdict);
+// The value a schema word names; nullopt for any other text.
+std::optional<RunKind> run_kind_named(std::string_view word);
+std::optional<EventLevel> event_level_named(std::string_view word);
+std::optional<Verdict> verdict_named(std::string_view word);
 
 // One instrument as its *IDN? reply describes it (IEEE 488.2: four fields).
 struct InstrumentRecord {
@@ -71,9 +74,12 @@ struct ReadingRecord {
   TimePoint taken_at;
 };
 
-// Every figure of one sweep's analysis (DESIGN §7); absent figures stay nullopt.
+// Every figure of one sweep's analysis; absent figures stay nullopt. The figures are listed
+// once, with their columns and units, in sweep_figures.h: the INSERT, the SELECT, the JSON and
+// the report all walk that table.
 struct SweepResultRecord {
   std::int64_t sweep_id = 0;
+  int sweep = 0;  // the sweep's number in its run, from 1; filled when read back (the writer goes by sweep_id)
   TimePoint computed_at;
   int fit_points = 0;
   std::optional<double> v_oc_volts;

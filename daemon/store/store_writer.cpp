@@ -3,11 +3,12 @@
 #include <fmt/format.h>
 #include <nlohmann/json.hpp>
 
-#include <array>
 #include <utility>
 
+#include "daemon/store/run_reader.h"
 #include "daemon/store/sha256.h"
 #include "daemon/store/store_error.h"
+#include "daemon/store/sweep_figures.h"
 #include "daemon/store/transaction.h"
 
 namespace zout::store {
@@ -29,41 +30,12 @@ std::filesystem::path created_parent(const std::filesystem::path& path) {
   return path;
 }
 
-// sweep_result's optional figures: column name and field, in one list so the INSERT and the
-// binding cannot disagree.
-using Figure = std::pair<const char*, std::optional<double> SweepResultRecord::*>;
-constexpr std::array<Figure, 23> sweep_figures = {{
-    {"v_oc_volts", &SweepResultRecord::v_oc_volts},
-    {"z_out_ohms", &SweepResultRecord::z_out_ohms},
-    {"z_out_stderr_ohms", &SweepResultRecord::z_out_stderr_ohms},
-    {"z_chord_ohms", &SweepResultRecord::z_chord_ohms},
-    {"cascade_r_ohms", &SweepResultRecord::cascade_r_ohms},
-    {"cascade_r_stderr_ohms", &SweepResultRecord::cascade_r_stderr_ohms},
-    {"effective_capacitance_farads", &SweepResultRecord::effective_capacitance_farads},
-    {"diode_drop_volts", &SweepResultRecord::diode_drop_volts},
-    {"diode_m", &SweepResultRecord::diode_m},
-    {"diode_i0_amps", &SweepResultRecord::diode_i0_amps},
-    {"rated_load_amps", &SweepResultRecord::rated_load_amps},
-    {"ripple_rated_rms_volts", &SweepResultRecord::ripple_rated_rms_volts},
-    {"ripple_rated_pp_volts", &SweepResultRecord::ripple_rated_pp_volts},
-    {"model_v_oc_volts", &SweepResultRecord::model_v_oc_volts},
-    {"model_z_out_ohms", &SweepResultRecord::model_z_out_ohms},
-    {"model_droop_rated_volts", &SweepResultRecord::model_droop_rated_volts},
-    {"model_ripple_rated_pp_volts", &SweepResultRecord::model_ripple_rated_pp_volts},
-    {"v_oc_drift_volts_per_hour", &SweepResultRecord::v_oc_drift_volts_per_hour},
-    {"v_oc_drift_stderr_volts_per_hour", &SweepResultRecord::v_oc_drift_stderr_volts_per_hour},
-    {"z_out_drift_ohms_per_hour", &SweepResultRecord::z_out_drift_ohms_per_hour},
-    {"z_out_drift_stderr_ohms_per_hour", &SweepResultRecord::z_out_drift_stderr_ohms_per_hour},
-    {"ripple_drift_volts_per_hour", &SweepResultRecord::ripple_drift_volts_per_hour},
-    {"ripple_drift_stderr_volts_per_hour", &SweepResultRecord::ripple_drift_stderr_volts_per_hour},
-}};
-
 std::string sweep_result_insert_sql() {
   std::string columns = "sweep_id, computed_at, fit_points, verdict, verdict_reasons_json";
   std::string values = ":sweep_id, :computed_at, :fit_points, :verdict, :verdict_reasons_json";
-  for (const auto& [name, field] : sweep_figures) {
-    columns += fmt::format(", {}", name);
-    values += fmt::format(", :{}", name);
+  for (const auto& figure : sweep_figures) {
+    columns += fmt::format(", {}", figure.column);
+    values += fmt::format(", :{}", figure.column);
   }
   return fmt::format("INSERT INTO sweep_result ({}) VALUES ({})", columns, values);
 }
@@ -302,8 +274,12 @@ void StoreWriter::record_sweep_result(const SweepResultRecord& result) {
   } else {
     insert->bind_null(":verdict");
   }
-  for (const auto& [name, field] : sweep_figures) insert->bind_real(fmt::format(":{}", name), result.*field);
+  for (const auto& figure : sweep_figures) insert->bind_real(fmt::format(":{}", figure.column), result.*figure.member);
   insert->run();
+}
+
+std::optional<QueuedRun> StoreWriter::next_queued_run(std::int64_t station_id) {
+  return RunReader(db_).next_queued_run(station_id);
 }
 
 std::int64_t StoreWriter::record_event(const EventRecord& event) {

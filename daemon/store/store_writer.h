@@ -10,12 +10,14 @@
 
 #include <cstdint>
 #include <filesystem>
+#include <optional>
 #include <string>
 #include <string_view>
 #include <vector>
 
 #include "daemon/store/database.h"
 #include "daemon/store/migrations.h"
+#include "daemon/store/read_records.h"
 #include "daemon/store/store_records.h"
 
 namespace zout::store {
@@ -70,7 +72,10 @@ class StoreWriter {
 
   std::int64_t record_event(const EventRecord& event);
 
-  // The connection, for read-back in tests and tools. Do not write through it.
+  // The oldest queued run of the station (the engine's queue), read on this connection.
+  std::optional<QueuedRun> next_queued_run(std::int64_t station_id);
+
+  // The connection, for read-back in the store's own tests and tools. Do not write through it.
   Database& database() { return db_; }
 
  private:

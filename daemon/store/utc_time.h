@@ -13,4 +13,8 @@ using TimePoint = std::chrono::system_clock::time_point;
 // others are a std::out_of_range.
 std::string format_utc(TimePoint time);
 
+// Reads text of exactly that form back (format_utc(parse_utc(t)) == t); anything else, an
+// impossible date included, is a std::invalid_argument quoting the text.
+TimePoint parse_utc(const std::string& text);
+
 }  // namespace zout::store

@@ -29,7 +29,7 @@
 #include <nlohmann/json.hpp>
 #include <unistd.h>
 
-#include "daemon/cli/control_client.h"
+#include "daemon/api/control_client.h"
 #include "daemon/engine/bench_connection.h"
 #include "daemon/plan/bench_config.h"
 #include "daemon/plan/plan.h"

@@ -19,7 +19,7 @@
 
 #include <nlohmann/json.hpp>
 
-#include "daemon/cli/control_client.h"
+#include "daemon/api/control_client.h"
 #include "drivers/scpi/response.h"
 #include "drivers/scpi/session.h"
 #include "drivers/transport/transport_factory.h"

@@ -208,7 +208,7 @@ TEST_CASE("zout report --plot writes SVG and PNG plots whose markers are the sto
   const double y_span = axes.axis_ymax - axes.axis_ymin;
   const auto markers = svg_markers(svg, "measured");
   const auto stored = select_numbers(db.file, "SELECT load_amps, dc_volts FROM iv_curve WHERE run_id = " + id +
-                                                   " ORDER BY sweep_index, step_index");
+                                                   " ORDER BY sweep, step");
   REQUIRE(stored.size() == 6);
   CHECK(markers.size() == stored.size());
   for (const auto& point : stored) {

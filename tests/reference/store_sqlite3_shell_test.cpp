@@ -95,16 +95,16 @@ TEST_CASE("the sqlite3 shell reads the views of a store StoreWriter wrote", "[st
   INFO(summary.err);
   REQUIRE(summary.exit_code == 0);
   REQUIRE(summary.out == std::to_string(run) + ",CW4-0007,cw4-soak,soak,passed,2,1999.5,1205000.0,10.25,pass\n");
-  const ChildResult trend = shell(db, "SELECT sweep_index, sweep_started_at, elapsed_s, v_oc_volts, z_out_ohms FROM soak_trend ORDER BY sweep_index", "-csv");
+  const ChildResult trend = shell(db, "SELECT sweep, sweep_started_at, elapsed_s, v_oc_volts, z_out_ohms FROM soak_trend ORDER BY sweep", "-csv");
   REQUIRE(trend.out ==
-          "0,2026-12-01T21:15:14.123Z,0.0,2000.0,1200000.0\n"
-          "1,2026-12-01T21:45:14.123Z,1800.0,1999.5,1205000.0\n");
-  const ChildResult curve = shell(db, "SELECT sweep_index, step_index, load_amps, dc_volts, ripple_pp_volts FROM iv_curve ORDER BY sweep_index, step_index", "-csv");
+          "1,2026-12-01T21:15:14.123Z,0.0,2000.0,1200000.0\n"
+          "2,2026-12-01T21:45:14.123Z,1800.0,1999.5,1205000.0\n");
+  const ChildResult curve = shell(db, "SELECT sweep, step, load_amps, dc_volts, ripple_pp_volts FROM iv_curve ORDER BY sweep, step", "-csv");
   REQUIRE(curve.out ==
-          "0,0,0.0,2000.0,0.0\n"
-          "0,1,0.00025,1700.0,10.0\n"
-          "1,0,0.0,1999.5,0.0\n"
-          "1,1,0.00025,1699.5,10.0\n");
+          "1,1,0.0,2000.0,0.0\n"
+          "1,2,0.00025,1700.0,10.0\n"
+          "2,1,0.0,1999.5,0.0\n"
+          "2,2,0.00025,1699.5,10.0\n");
   const ChildResult history = shell(db, "SELECT serial, run_id, state, verdict FROM unit_history WHERE serial = 'CW4-0007'", "-csv");
   REQUIRE(history.out == "CW4-0007," + std::to_string(run) + ",passed,pass\n");
   REQUIRE(shell(db, "PRAGMA integrity_check").out == "ok\n");

@@ -4,6 +4,7 @@
 
 #include <unistd.h>
 
+#include <algorithm>
 #include <filesystem>
 #include <fstream>
 #include <sstream>
@@ -50,8 +51,8 @@ TEST_CASE("a new database gets every migration, in order, recorded in user_versi
   {
     StoreWriter writer(file);
     Database& db = writer.database();
-    REQUIRE(db.pragma_int("user_version") == 3);
-    REQUIRE(embedded_migrations().size() == 3);
+    REQUIRE(db.pragma_int("user_version") == 4);
+    REQUIRE(embedded_migrations().size() == 4);
     REQUIRE(column_of(db, "PRAGMA journal_mode") == std::vector<std::string>{"wal"});
     REQUIRE(db.pragma_int("foreign_keys") == 1);
     REQUIRE(db.pragma_int("synchronous") == 2);  // FULL (SQLite documentation, PRAGMA synchronous)
@@ -65,8 +66,8 @@ TEST_CASE("a new database gets every migration, in order, recorded in user_versi
   // Opening again applies nothing and keeps the data.
   Database db(file, Database::Access::read_write_create);
   const MigrationOutcome again = apply_migrations(db, embedded_migrations());
-  REQUIRE(again.from_version == 3);
-  REQUIRE(again.to_version == 3);
+  REQUIRE(again.from_version == 4);
+  REQUIRE(again.to_version == 4);
   REQUIRE(column_of(db, "SELECT name FROM station") == std::vector<std::string>{"line-1"});
 }
 
@@ -95,7 +96,7 @@ TEST_CASE("a database from a newer schema is refused and left byte for byte as i
   std::string message;
   REQUIRE(kind_of_failure([&] { StoreWriter writer(file); }, message) == StoreError::Kind::schema);
   REQUIRE_THAT(message, Catch::Contains(file.string()) && Catch::Contains("schema version 9") &&
-                            Catch::Contains("newer than this zout knows (up to 3)") && Catch::Contains("untouched"));
+                            Catch::Contains("newer than this zout knows (up to 4)") && Catch::Contains("untouched"));
   REQUIRE(file_bytes(file) == before);
   REQUIRE_FALSE(fs::exists(dir.path / "newer.db-wal"));
 }
@@ -140,7 +141,7 @@ TEST_CASE("an older database gets only the migrations it lacks, and keeps its da
     writer.record_unit("CW4-0001", "CW4", std::chrono::system_clock::now());
   }
   StoreWriter writer(file);
-  REQUIRE(writer.database().pragma_int("user_version") == 3);
+  REQUIRE(writer.database().pragma_int("user_version") == 4);
   REQUIRE(column_of(writer.database(), "SELECT count(*) FROM sqlite_schema WHERE type = 'view'") ==
           std::vector<std::string>{"4"});
   REQUIRE(column_of(writer.database(), "SELECT serial || ' ' || model FROM unit") ==
@@ -152,17 +153,17 @@ TEST_CASE("a migration that fails is rolled back whole and named", "[store]") {
   const fs::path schema = dir.path / "schema";
   fs::create_directories(schema);
   for (const auto& m : embedded_migrations()) write_file(schema / m.name, m.sql);
-  write_file(schema / "004_broken.sql",
+  write_file(schema / "005_broken.sql",
              "BEGIN IMMEDIATE;\nCREATE TABLE extra (x INTEGER);\nINSERT INTO no_such_table VALUES (1);\n"
-             "PRAGMA user_version = 4;\nCOMMIT;\n");
+             "PRAGMA user_version = 5;\nCOMMIT;\n");
   const fs::path file = dir.path / "z.db";
   std::string message;
   REQUIRE(kind_of_failure([&] { StoreWriter writer(file, load_migrations(schema)); }, message) ==
           StoreError::Kind::schema);
-  REQUIRE_THAT(message, Catch::Contains("004_broken.sql") && Catch::Contains("stays at version 3") &&
+  REQUIRE_THAT(message, Catch::Contains("005_broken.sql") && Catch::Contains("stays at version 4") &&
                             Catch::Contains("no_such_table"));
   Database db(file, Database::Access::read_only);
-  REQUIRE(db.pragma_int("user_version") == 3);
+  REQUIRE(db.pragma_int("user_version") == 4);
   REQUIRE(column_of(db, "SELECT name FROM sqlite_schema WHERE name = 'extra'").empty());
 }
 
@@ -195,4 +196,37 @@ TEST_CASE("migration files must be numbered from 001 without gaps and each be on
     REQUIRE(kind_of_failure([&] { load_migrations(dir.path); }, message) == StoreError::Kind::schema);
     REQUIRE_THAT(message, Catch::Contains("no migrations"));
   }
+}
+
+TEST_CASE("migration 004: the views count sweeps and steps from 1 and run_summary names slot and note", "[store]") {
+  TempDir dir("zout-store-migrations");
+  StoreWriter writer(dir.path / "z.db");
+  const auto columns = [&](const std::string& view) {
+    return column_of(writer.database(), "SELECT name FROM pragma_table_info('" + view + "')");
+  };
+  const auto has = [](const std::vector<std::string>& names, const std::string& name) {
+    return std::find(names.begin(), names.end(), name) != names.end();
+  };
+  for (const std::string view : {"iv_curve", "soak_trend"}) {
+    INFO(view);
+    CHECK(has(columns(view), "sweep"));
+    CHECK_FALSE(has(columns(view), "sweep_index"));
+  }
+  CHECK(has(columns("iv_curve"), "step"));
+  CHECK_FALSE(has(columns("iv_curve"), "step_index"));
+  for (const std::string column : {"slot", "note", "result_sweep", "result_sweep_id"}) CHECK(has(columns("run_summary"), column));
+  const auto at = std::chrono::system_clock::now();
+  const auto station = writer.record_station("st", at);
+  const auto run = writer.create_run({writer.record_unit("U-1", "", at), writer.record_plan("p", "{}", at), station,
+                                      RunKind::production, RunState::running, at, "", ""});
+  const auto sweep = writer.start_sweep(run, 0, at);
+  PointRecord point;
+  point.sweep_id = sweep;
+  point.step_index = 0;
+  point.set_load_amps = 0.0;
+  point.dc_volts = 1.0;
+  point.step_started_at = at;
+  point.taken_at = at;
+  writer.commit_point(point, {{writer.record_instrument({station, "meter", "tcp://x:1", "M", "D", "1", "1"}, at), "dc_volts", 1.0, at}});
+  CHECK(column_of(writer.database(), "SELECT sweep || '/' || step FROM iv_curve") == std::vector<std::string>{"1/1"});
 }

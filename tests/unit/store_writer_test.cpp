@@ -329,18 +329,19 @@ TEST_CASE("the views answer the questions users ask", "[store]") {
             Rows{{std::to_string(run2), "failed"}, {std::to_string(run4), "aborted"}});
   }
   SECTION("iv_curve: load current (measured, else set) against DC volts and ripple") {
-    REQUIRE(select(file, "SELECT sweep_index, step_index, load_amps, dc_volts, ripple_rms_volts, ripple_pp_volts "
-                         "FROM iv_curve WHERE run_id = " + std::to_string(run1) + " ORDER BY step_index") ==
-            Rows{{"0", "0", "0.0", "2000.0", "0.5", "2.0"},
-                 {"0", "1", "0.0001001", "1880.0", "1.5", "5.0"},
-                 {"0", "2", "0.0002002", "1760.0", "2.5", "9.0"},
-                 {"0", "3", "0.0003003", "1640.0", "3.5", "12.0"}});
+    // The views count sweeps and steps from 1 (schema/004_views_count_from_one.sql).
+    REQUIRE(select(file, "SELECT sweep, step, load_amps, dc_volts, ripple_rms_volts, ripple_pp_volts "
+                         "FROM iv_curve WHERE run_id = " + std::to_string(run1) + " ORDER BY step") ==
+            Rows{{"1", "1", "0.0", "2000.0", "0.5", "2.0"},
+                 {"1", "2", "0.0001001", "1880.0", "1.5", "5.0"},
+                 {"1", "3", "0.0002002", "1760.0", "2.5", "9.0"},
+                 {"1", "4", "0.0003003", "1640.0", "3.5", "12.0"}});
   }
   SECTION("soak_trend: per sweep of a soak run, time into the run and the figures") {
-    REQUIRE(select(file, "SELECT run_id, serial, sweep_index, sweep_started_at, elapsed_s, v_oc_volts, z_out_ohms, "
-                         "ripple_rated_pp_volts, verdict FROM soak_trend ORDER BY sweep_index") ==
-            Rows{{std::to_string(run3), "CW4-0001", "0", "2026-12-01T22:15:19.123Z", "0.0", "2000.0", "1200000.0", "12.5", "NULL"},
-                 {std::to_string(run3), "CW4-0001", "1", "2026-12-01T22:25:19.123Z", "600.0", "1999.5", "1210000.0", "12.625", "NULL"},
-                 {std::to_string(run3), "CW4-0001", "2", "2026-12-01T22:35:19.123Z", "1200.0", "1999.0", "1220000.0", "12.75", "pass"}});
+    REQUIRE(select(file, "SELECT run_id, serial, sweep, sweep_started_at, elapsed_s, v_oc_volts, z_out_ohms, "
+                         "ripple_rated_pp_volts, verdict FROM soak_trend ORDER BY sweep") ==
+            Rows{{std::to_string(run3), "CW4-0001", "1", "2026-12-01T22:15:19.123Z", "0.0", "2000.0", "1200000.0", "12.5", "NULL"},
+                 {std::to_string(run3), "CW4-0001", "2", "2026-12-01T22:25:19.123Z", "600.0", "1999.5", "1210000.0", "12.625", "NULL"},
+                 {std::to_string(run3), "CW4-0001", "3", "2026-12-01T22:35:19.123Z", "1200.0", "1999.0", "1220000.0", "12.75", "pass"}});
   }
 }
