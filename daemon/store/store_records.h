@@ -71,7 +71,7 @@ struct ReadingRecord {
   TimePoint taken_at;
 };
 
-// Every figure of one sweep's analysis (DESIGN §7); absent figures stay nullopt.
+// Every figure of one sweep's analysis (DEVELOPERS.md, "Analysis"); absent figures stay nullopt.
 struct SweepResultRecord {
   std::int64_t sweep_id = 0;
   TimePoint computed_at;
