@@ -1,4 +1,4 @@
--- 001: the tables of the store (DESIGN §8). Rules for changing the schema: schema/README.md.
+-- 001: the tables of the store (DEVELOPERS.md, "Storage"). Rules for changing the schema: schema/README.md.
 --
 -- Conventions, checked here rather than trusted:
 -- * SI units in column names (_volts, _amps, _ohms, _farads, _s).
@@ -161,7 +161,7 @@ BEGIN
   SELECT RAISE(ABORT, 'readings are immutable once committed');
 END;
 
--- The analysis of one sweep (DESIGN §7). A figure the analysis could not make is NULL.
+-- The analysis of one sweep (DEVELOPERS.md, "Analysis"). A figure the analysis could not make is NULL.
 CREATE TABLE sweep_result (
   sweep_id                     INTEGER PRIMARY KEY REFERENCES sweep (sweep_id),
   computed_at                  TEXT NOT NULL CHECK (computed_at GLOB '[0-9][0-9][0-9][0-9]-[01][0-9]-[0-3][0-9]T[0-2][0-9]:[0-5][0-9]:[0-6][0-9].[0-9][0-9][0-9]Z'),

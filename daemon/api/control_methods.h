@@ -1,5 +1,5 @@
 #pragma once
-// The JSON-RPC methods of zoutd (DESIGN §9) over the engine and a read-only view of the
+// The JSON-RPC methods of zoutd (DEVELOPERS.md, "Control protocol") over the engine and a read-only view of the
 // store: bench.describe, run.start, run.abort, run.get, run.list, events.subscribe.
 // Malformed params are -32602 naming the parameter; a plan that fails to load or exceeds
 // the bench's safety maxima is -32001 with the file, JSON path and rule.

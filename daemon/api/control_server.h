@@ -1,5 +1,5 @@
 #pragma once
-// The control socket (DESIGN §9): JSON-RPC 2.0 on a Unix stream socket (mode 0660), one
+// The control socket (DEVELOPERS.md, "Control protocol"): JSON-RPC 2.0 on a Unix stream socket (mode 0660), one
 // JSON object per line. Runs on one asio io_context thread. A request line over 1 MiB is
 // refused and the connection closed; a client that stops reading is dropped once its
 // unsent replies pass a bound, so no client can block a run or the daemon.

@@ -1,6 +1,6 @@
 #pragma once
 // The daemon's engine: one bench, one run at a time, the rest waiting in a queue that lives
-// in the store (runs in state `queued`), so it survives a restart (DESIGN §6).
+// in the store (runs in state `queued`), so it survives a restart (DEVELOPERS.md, "Run lifecycle").
 //
 // Threads: the engine runs runs on its own thread; enqueue/abort/describe/progress are
 // called from the control server's thread. Each thread has its own store connection (SQLite
@@ -39,7 +39,7 @@ class Engine {
   Engine(BenchConfig bench, Notify notify, RecoveryPolicy recovery = {});
   ~Engine();
 
-  // Start-up (DESIGN §6): opens the store (migrating it), marks runs left `running` as
+  // Start-up (DEVELOPERS.md, "Run lifecycle"): opens the store (migrating it), marks runs left `running` as
   // `interrupted` with an event, connects the bench and puts it in safe state (an
   // unreachable bench is an event, not a failure: it is retried before each run), then
   // starts the engine thread, which picks up queued runs.

@@ -1,6 +1,6 @@
 #pragma once
 // The ways a run stops early, as exceptions the engine's loops throw and the run executor
-// turns into a final state (DESIGN §6).
+// turns into a final state (DEVELOPERS.md, "Run lifecycle").
 
 #include <stdexcept>
 #include <string>

@@ -1,5 +1,5 @@
 #pragma once
-// Where events go (DESIGN §3: anything notable — fault, reconnect, safety trip): one line
+// Where events go (DEVELOPERS.md, "Names and units": anything notable — fault, reconnect, safety trip): one line
 // on stderr for the service manager's journal, a row in the store's event table, and an
 // `event` notification to subscribers. Recording never throws.
 

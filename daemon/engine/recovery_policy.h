@@ -1,5 +1,5 @@
 #pragma once
-// How hard the engine tries before a run ends `interrupted` (DESIGN §6): a step that fails
+// How hard the engine tries before a run ends `interrupted` (DEVELOPERS.md, "Run lifecycle"): a step that fails
 // on I/O is repeated after a reconnect with growing pauses; past the budget the run stops.
 
 #include <chrono>

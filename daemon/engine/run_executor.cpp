@@ -83,7 +83,7 @@ void RunExecutor::configure_bench(const Plan& plan, std::int64_t run_id, PointMe
   s_.bench.load().select_mode(plan.load.mode == LoadStepMode::current ? LoadMode::constant_current
                                                                       : LoadMode::constant_resistance);
   // Error-queue entries after configuring mean a setting was not taken: the run cannot trust
-  // the bench (DESIGN §6).
+  // the bench (DEVELOPERS.md, "Run lifecycle").
   const auto errors = s_.bench.drain_all_errors();
   if (!errors.empty()) {
     std::string all;
@@ -157,7 +157,7 @@ RunState RunExecutor::execute(const RunTicket& ticket) {
   PointMeasurer measurer(s_.bench, plan, s_.config.safety, s_.abort_requested);
   int failures_left = s_.recovery.run_budget;
   try {
-    // Safe state first, then configure; only then drive on and load on (DESIGN §6).
+    // Safe state first, then configure; only then drive on and load on (DEVELOPERS.md, "Run lifecycle").
     const auto unsafe = s_.bench.enter_safe_state();
     if (!unsafe.empty()) throw IoError(IoErrorKind::open_failed, "cannot reach safe state: " + unsafe.front());
     if (ticket.slot) {
@@ -289,7 +289,7 @@ RunState RunExecutor::execute(const RunTicket& ticket) {
     event(EventLevel::error, "engine", "run.error", reason, run_id);
   }
 
-  // Always end in safe state (DESIGN §6).
+  // Always end in safe state (DEVELOPERS.md, "Run lifecycle").
   for (const auto& line : s_.bench.enter_safe_state()) {
     event(EventLevel::error, "engine", "safe_state.failed", line, run_id);
   }

@@ -1,5 +1,5 @@
 #pragma once
-// Runs one queued run from start to its final state, as the explicit lifecycle of DESIGN §6:
+// Runs one queued run from start to its final state, as the explicit lifecycle (DEVELOPERS.md, "Run lifecycle"):
 //   running → safe state → configure (error queues checked) → drive on → sweeps of steps
 //   (settle, measure, commit each point with its readings, notify) → analysis per sweep
 //   → verdict → safe state.

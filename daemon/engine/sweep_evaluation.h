@@ -1,5 +1,5 @@
 #pragma once
-// Turns one sweep's points into its analysis (DESIGN §7) and judges it: every figure for
+// Turns one sweep's points into its analysis (DEVELOPERS.md, "Analysis") and judges it: every figure for
 // the store's sweep_result, the verdict with one reason per failed limit, and for a soak the
 // drift of V_oc, Z_out and ripple over the sweeps so far with control-band alarms.
 

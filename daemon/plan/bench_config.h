@@ -1,5 +1,5 @@
 #pragma once
-// The bench file (DESIGN §4): the instruments of one station, where the database and the
+// The bench file (DEVELOPERS.md, "Files a user writes"): the instruments of one station, where the database and the
 // control socket live, and the hard safety maxima. Relative paths in the file (database,
 // socket, dialects) are taken relative to the directory of the bench file itself.
 

@@ -1,5 +1,5 @@
 #pragma once
-// A plan (DESIGN §4): what to do to one unit. Loaded from JSON and checked in full; a
+// A plan (DEVELOPERS.md, "Files a user writes"): what to do to one unit. Loaded from JSON and checked in full; a
 // plan that loads has every value finite and within physical sense. Whether it fits a
 // given bench's safety maxima is a separate check (safety_check.h).
 

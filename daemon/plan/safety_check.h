@@ -1,5 +1,5 @@
 #pragma once
-// The bench's safety maxima are hard (DESIGN §4): a plan that could exceed them is refused
+// The bench's safety maxima are hard (DEVELOPERS.md, "Safety"): a plan that could exceed them is refused
 // before any instrument is touched. Checks are conservative: the ideal cascade output
 // 2n·(V_pk + |offset|) bounds what the unit can reach.
 

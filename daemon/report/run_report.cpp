@@ -11,7 +11,7 @@
 namespace zout::report {
 namespace {
 
-// Seconds since 1970 of "YYYY-MM-DDTHH:MM:SS.mmmZ" (the store's time form, DESIGN §3).
+// Seconds since 1970 of "YYYY-MM-DDTHH:MM:SS.mmmZ" (the store's time form, DEVELOPERS.md, "Names and units").
 std::optional<double> utc_seconds(const std::string& text) {
   int y = 0, mo = 0, d = 0, h = 0, mi = 0, s = 0, ms = 0;
   char z = 0;

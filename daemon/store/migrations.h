@@ -1,5 +1,5 @@
 #pragma once
-// The numbered SQL migrations of schema/ and the runner that applies them (DESIGN §8).
+// The numbered SQL migrations of schema/ and the runner that applies them (DEVELOPERS.md, "Storage").
 //
 // A migration is a file NNN_words.sql, numbered from 001 without gaps. Each is one
 // transaction (BEGIN IMMEDIATE; ... PRAGMA user_version = NNN; COMMIT;), so PRAGMA

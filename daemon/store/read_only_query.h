@@ -1,5 +1,5 @@
 #pragma once
-// Runs one user-written SQL statement against the store with no way to change it (DESIGN §8,
+// Runs one user-written SQL statement against the store with no way to change it (DEVELOPERS.md, "Storage",
 // the engine of `zout query`). Layers, each enough on its own for the common cases:
 //  1. the file is opened with SQLITE_OPEN_READONLY, and PRAGMA query_only=ON is set;
 //  2. extension loading is off (SQLITE_DBCONFIG_ENABLE_LOAD_EXTENSION = 0);

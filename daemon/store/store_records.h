@@ -74,7 +74,7 @@ struct ReadingRecord {
   TimePoint taken_at;
 };
 
-// Every figure of one sweep's analysis; absent figures stay nullopt. The figures are listed
+// Every figure of one sweep's analysis (DEVELOPERS.md, "Analysis"); absent figures stay nullopt. The figures are listed
 // once, with their columns and units, in sweep_figures.h: the INSERT, the SELECT, the JSON and
 // the report all walk that table.
 struct SweepResultRecord {

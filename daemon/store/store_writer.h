@@ -1,5 +1,5 @@
 #pragma once
-// The daemon's one writer to the store (DESIGN §8). Opens or creates the database, refuses a
+// The daemon's one writer to the store (DEVELOPERS.md, "Storage"). Opens or creates the database, refuses a
 // newer schema without touching it, applies pending migrations, and records what a run does.
 //
 // Connection settings (SQLite documentation, "PRAGMA statements" and "Write-Ahead Logging"):
@@ -54,7 +54,7 @@ class StoreWriter {
   // so a run can always end. Any other move, or an unknown run, is a StoreError(bad_input).
   void set_run_state(std::int64_t run_id, RunState state, TimePoint at);
 
-  // Marks every run still `running` as `interrupted` (the daemon's start-up rule, DESIGN §6);
+  // Marks every run still `running` as `interrupted` (the daemon's start-up rule, DEVELOPERS.md, "Run lifecycle");
   // returns how many.
   int interrupt_running_runs(TimePoint at);
 

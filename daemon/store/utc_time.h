@@ -1,6 +1,6 @@
 #pragma once
 // Times as the store writes them: ISO-8601 UTC text with milliseconds,
-// "2026-12-01T21:15:14.123Z" (DESIGN §3). Text of this form sorts in time order.
+// "2026-12-01T21:15:14.123Z" (DEVELOPERS.md, "Names and units"). Text of this form sorts in time order.
 
 #include <chrono>
 #include <string>

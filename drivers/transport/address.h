@@ -1,5 +1,5 @@
 #pragma once
-// Instrument addresses are URIs (DESIGN §3):
+// Instrument addresses are URIs (DEVELOPERS.md, "Names and units"):
 //   tcp://HOST:PORT[?eol=lf|crlf|cr]
 //   serial:///dev/ttyUSB0?baud=115200&parity=none&data=8&stop=1&flow=none[&eol=...]
 //   serial://usb-serial/A5C0FFEE?baud=115200   (a USB adapter by its serial number)

@@ -1,5 +1,5 @@
 // zoutd end to end: real zout-sim and zoutd processes on loopback, driven over the control
-// socket like the client would, with the database read back afterwards (DESIGN §6, §9).
+// socket like the client would, with the database read back afterwards (DEVELOPERS.md: "Run lifecycle", "Control protocol").
 #include <catch2/catch.hpp>
 
 #include <set>

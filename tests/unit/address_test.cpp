@@ -1,4 +1,4 @@
-// Address URIs (DESIGN §3): what parses, and that every refusal names the wrong part and
+// Address URIs (DEVELOPERS.md, "Names and units"): what parses, and that every refusal names the wrong part and
 // what is allowed.
 #include <catch2/catch.hpp>
 

@@ -1,5 +1,5 @@
 // Bench and plan files: what loads, and that every refusal names the file, the JSON path
-// and the rule (DESIGN §4).
+// and the rule (DEVELOPERS.md, "Files a user writes").
 #include <catch2/catch.hpp>
 
 #include <cstdlib>

@@ -1,4 +1,4 @@
-// zout-sim: the simulated bench (DESIGN §5). Serves a function generator, a DMM, an
+// zout-sim: the simulated bench (drivers/sim/README.md). Serves a function generator, a DMM, an
 // electronic load and a slot switch over SCPI on loopback TCP (and pseudo-terminals with
 // --pty), wired to a panel of simulated voltage multipliers; or, with --solve, prints one
 // unit's periodic steady state and exits. See drivers/sim/README.md.
