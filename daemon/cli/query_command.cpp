@@ -163,7 +163,7 @@ void add_query_command(CLI::App& app, int& exit_code) {
   verb->footer(
       "The database is opened read-only; statements that would write, ATTACH another file,\n"
       "change a setting with PRAGMA or load an extension are refused.\n"
-      "Views: run_summary, iv_curve, unit_history, soak_trend (see schema/003_views.sql).\n"
+      "Views: run_summary, iv_curve, unit_history, soak_trend (see schema/004_views_count_from_one.sql).\n"
       "Exit status: 0 ok, 1 cannot open or read the database, 2 bad arguments, bad SQL or a\n"
       "refused statement, 6 stopped at --timeout-ms.\n"
       "Example: zout query \"SELECT * FROM unit_history WHERE serial = 'CW5-0001'\" --format csv");

@@ -4,6 +4,7 @@
 #include <cmath>
 
 #include "daemon/analysis/cascade_model.h"
+#include "daemon/analysis/rated_step.h"
 
 namespace zout::report {
 namespace {
@@ -41,9 +42,9 @@ std::optional<double> mean_volts_near(const RunRecord& record, double amps) {
   if (!result || !(amps > 0.0)) return std::nullopt;
   double sum = 0.0;
   int count = 0;
-  for (const auto* p : record.points_of_sweep(result->sweep_index)) {
-    if (p->load_amps && std::abs(*p->load_amps - amps) <= 0.05 * amps) {
-      sum += p->dc_volts;
+  for (const auto* p : record.points_of_sweep(result->sweep)) {
+    if (p->load_amps && analysis::is_rated_load(*p->load_amps, amps)) {
+      sum += p->point.dc_volts;
       ++count;
     }
   }
@@ -54,14 +55,14 @@ std::vector<ComparisonRow> compare_with_model(const RunRecord& record) {
   const auto* result = record.latest_result();
   const auto drive = cascade_drive(record);
   const auto rated = rated_load_amps(record);
-  const auto measured = [&](std::optional<double> SweepResultRow::*field) {
+  const auto measured = [&](std::optional<double> store::SweepResultRecord::*field) {
     return result ? result->*field : std::nullopt;
   };
 
-  std::optional<double> model_v_oc = measured(&SweepResultRow::model_v_oc_volts);
-  std::optional<double> model_z_out = measured(&SweepResultRow::model_z_out_ohms);
-  std::optional<double> model_droop = measured(&SweepResultRow::model_droop_rated_volts);
-  std::optional<double> model_ripple = measured(&SweepResultRow::model_ripple_rated_pp_volts);
+  std::optional<double> model_v_oc = measured(&store::SweepResultRecord::model_v_oc_volts);
+  std::optional<double> model_z_out = measured(&store::SweepResultRecord::model_z_out_ohms);
+  std::optional<double> model_droop = measured(&store::SweepResultRecord::model_droop_rated_volts);
+  std::optional<double> model_ripple = measured(&store::SweepResultRecord::model_ripple_rated_pp_volts);
   if (drive) {
     model_v_oc = analysis::ideal_open_circuit_volts(drive->stages, drive->amplitude_volts_peak);
     model_z_out = analysis::model_source_ohms(drive->stages, drive->frequency_hz, drive->capacitance_farads);
@@ -74,7 +75,7 @@ std::vector<ComparisonRow> compare_with_model(const RunRecord& record) {
   }
 
   std::optional<double> measured_droop;
-  const auto v_oc = measured(&SweepResultRow::v_oc_volts);
+  const auto v_oc = measured(&store::SweepResultRecord::v_oc_volts);
   if (v_oc && rated) {
     if (const auto v_rated = mean_volts_near(record, *rated)) measured_droop = *v_oc - *v_rated;
   }
@@ -85,9 +86,9 @@ std::vector<ComparisonRow> compare_with_model(const RunRecord& record) {
     rows.push_back({quantity, key, unit, m, model, difference_percent(m, model)});
   };
   add("V_oc", "v_oc_volts", "V", v_oc, model_v_oc);
-  add("Z_out", "z_out_ohms", "ohm", measured(&SweepResultRow::z_out_ohms), model_z_out);
+  add("Z_out", "z_out_ohms", "ohm", measured(&store::SweepResultRecord::z_out_ohms), model_z_out);
   add("droop at rated load", "droop_rated_volts", "V", measured_droop, model_droop);
-  add("ripple pp at rated load", "ripple_rated_pp_volts", "V", measured(&SweepResultRow::ripple_rated_pp_volts),
+  add("ripple pp at rated load", "ripple_rated_pp_volts", "V", measured(&store::SweepResultRecord::ripple_rated_pp_volts),
       model_ripple);
   return rows;
 }

@@ -89,7 +89,7 @@ const char* common_settings =
 std::string iv_plot_body(const RunRecord& record) {
   std::vector<XY> measured;
   for (const auto& p : record.points) {
-    if (p.load_amps) measured.push_back({*p.load_amps, p.dc_volts});
+    if (p.load_amps) measured.push_back({*p.load_amps, p.point.dc_volts});
   }
   if (measured.empty()) return "";
   const double largest = largest_load_amps(record);
@@ -98,7 +98,7 @@ std::string iv_plot_body(const RunRecord& record) {
   std::string script = data_block("measured", measured);
   std::vector<std::string> plots = {"$measured using 1:2 with points pt 7 ps 1.2 lc rgb '#1f4e9a' title 'measured' noenhanced"};
 
-  const SweepResultRow* result = record.latest_result();
+  const store::SweepResultRecord* result = record.latest_result();
   if (result && result->v_oc_volts && result->z_out_ohms) {
     const double v_oc = *result->v_oc_volts;
     const double z = *result->z_out_ohms;
@@ -136,7 +136,7 @@ std::string iv_plot_body(const RunRecord& record) {
 std::string ripple_plot_body(const RunRecord& record) {
   std::vector<XY> measured;
   for (const auto& p : record.points) {
-    if (p.load_amps && p.ripple_pp_volts) measured.push_back({*p.load_amps, *p.ripple_pp_volts});
+    if (p.load_amps && p.point.ripple_pp_volts) measured.push_back({*p.load_amps, *p.point.ripple_pp_volts});
   }
   const auto drive = cascade_drive(record);
   if (measured.empty() && !drive) return "";
@@ -166,15 +166,15 @@ std::string ripple_plot_body(const RunRecord& record) {
 }
 
 std::string soak_plot_body(const RunRecord& record) {
-  if (record.header.kind != "soak") return "";
+  if (!record.is_soak()) return "";
   struct Panel {
     std::string name;
     std::string label;
-    std::optional<double> SoakTrendRow::*field;
+    std::optional<double> store::SweepResultRecord::*field;
   };
-  const Panel panels[] = {{"v_oc", "V_oc (V)", &SoakTrendRow::v_oc_volts},
-                          {"z_out", "Z_out (ohm)", &SoakTrendRow::z_out_ohms},
-                          {"ripple", "ripple pp at rated load (V)", &SoakTrendRow::ripple_rated_pp_volts}};
+  const Panel panels[] = {{"v_oc", "V_oc (V)", &store::SweepResultRecord::v_oc_volts},
+                          {"z_out", "Z_out (ohm)", &store::SweepResultRecord::z_out_ohms},
+                          {"ripple", "ripple pp at rated load (V)", &store::SweepResultRecord::ripple_rated_pp_volts}};
   const std::size_t baseline = record.plan ? static_cast<std::size_t>(record.plan->repeat.baseline_sweeps) : 5;
   const double band_sigma = record.plan ? record.plan->repeat.band_sigma : 3.0;
 
@@ -183,10 +183,10 @@ std::string soak_plot_body(const RunRecord& record) {
   for (const auto& panel : panels) {
     std::vector<XY> series;
     std::vector<double> values;
-    for (const auto& row : record.soak_trend) {
-      if (row.elapsed_s && row.*(panel.field)) {
-        series.push_back({*row.elapsed_s / 3600.0, *(row.*(panel.field))});
-        values.push_back(*(row.*(panel.field)));
+    for (const auto& sweep : record.sweeps) {
+      if (sweep.result && (*sweep.result).*(panel.field)) {
+        series.push_back({sweep.elapsed_s / 3600.0, *((*sweep.result).*(panel.field))});
+        values.push_back(*((*sweep.result).*(panel.field)));
       }
     }
     if (series.empty()) continue;
@@ -230,7 +230,7 @@ PlotFiles write_run_plots(const RunRecord& record, const std::filesystem::path& 
       {"iv", iv_plot_body(record), 600, "no point has a load current"},
       {"ripple", ripple_plot_body(record), 600, "no ripple reading and no plan to model it"},
       {"soak", soak_plot_body(record), 1000,
-       record.header.kind == "soak" ? "no analysed sweep with a time" : "not a soak run"},
+       record.is_soak() ? "no analysed sweep with a time" : "not a soak run"},
   };
   PlotFiles files;
   for (const auto& figure : figures) {

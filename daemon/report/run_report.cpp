@@ -4,26 +4,13 @@
 
 #include <algorithm>
 #include <chrono>
-#include <cstdio>
 
 #include "daemon/report/model_comparison.h"
+#include "daemon/store/record_json.h"
+#include "daemon/store/sweep_figures.h"
 
 namespace zout::report {
 namespace {
-
-// Seconds since 1970 of "YYYY-MM-DDTHH:MM:SS.mmmZ" (the store's time form, DEVELOPERS.md, "Names and units").
-std::optional<double> utc_seconds(const std::string& text) {
-  int y = 0, mo = 0, d = 0, h = 0, mi = 0, s = 0, ms = 0;
-  char z = 0;
-  if (std::sscanf(text.c_str(), "%4d-%2d-%2dT%2d:%2d:%2d.%3d%c", &y, &mo, &d, &h, &mi, &s, &ms, &z) != 8 || z != 'Z') {
-    return std::nullopt;
-  }
-  const std::chrono::year_month_day day{std::chrono::year{y}, std::chrono::month{static_cast<unsigned>(mo)},
-                                        std::chrono::day{static_cast<unsigned>(d)}};
-  if (!day.ok()) return std::nullopt;
-  const auto days = std::chrono::sys_days{day}.time_since_epoch().count();
-  return static_cast<double>(days) * 86400.0 + h * 3600.0 + mi * 60.0 + s + ms / 1000.0;
-}
 
 std::string number(const std::optional<double>& value) { return value ? fmt::format("{:.6g}", *value) : "-"; }
 
@@ -35,7 +22,6 @@ std::string figure(const std::optional<double>& value, const std::optional<doubl
 }
 
 nlohmann::json json_of(const std::optional<double>& v) { return v ? nlohmann::json(*v) : nlohmann::json(nullptr); }
-nlohmann::json json_of(const std::optional<std::string>& v) { return v ? nlohmann::json(*v) : nlohmann::json(nullptr); }
 
 enum class Align { left, numbers_right };
 
@@ -70,9 +56,11 @@ std::string table(const std::vector<std::vector<std::string>>& rows, const std::
   return out;
 }
 
-bool is_notable(const RunEvent& e) { return e.level == "warning" || e.level == "error"; }
+bool is_notable(const store::StoredEvent& e) { return e.event.level != store::EventLevel::info; }
 
-std::string set_load_text(const RunPoint& p) {
+std::string time_text(const std::optional<store::TimePoint>& time) { return time ? store::format_utc(*time) : "-"; }
+
+std::string set_load_text(const store::PointRecord& p) {
   if (p.set_load_amps) return fmt::format("{:.6g} A", *p.set_load_amps);
   if (p.set_load_ohms) return fmt::format("{:.6g} ohm", *p.set_load_ohms);
   return "-";
@@ -80,38 +68,35 @@ std::string set_load_text(const RunPoint& p) {
 
 }  // namespace
 
-std::optional<double> run_duration_s(const RunHeader& header) {
+std::optional<double> run_duration_s(const store::RunSummary& header) {
   if (!header.started_at || !header.ended_at) return std::nullopt;
-  const auto start = utc_seconds(*header.started_at);
-  const auto end = utc_seconds(*header.ended_at);
-  if (!start || !end) return std::nullopt;
-  return *end - *start;
+  return std::chrono::duration<double>(*header.ended_at - *header.started_at).count();
 }
 
 std::string render_text_report(const RunRecord& record) {
-  const RunHeader& h = record.header;
+  const store::RunSummary& h = record.header;
   std::string out = fmt::format("Run {}: unit {}{}{}\n", h.run_id, h.serial, h.model.empty() ? "" : " (" + h.model + ")",
                                 h.slot ? fmt::format(", slot {}", *h.slot) : "");
   const auto duration = run_duration_s(h);
   out += table({{"plan", h.plan_name},
-                {"kind", h.kind},
+                {"kind", std::string(store::to_string(h.kind))},
                 {"station", h.station},
                 {"operator", h.operator_name.empty() ? "-" : h.operator_name},
-                {"state", h.state},
-                {"queued", h.queued_at},
-                {"started", h.started_at.value_or("-")},
-                {"ended", h.ended_at.value_or("-")},
+                {"state", std::string(store::to_string(h.state))},
+                {"queued", store::format_utc(h.queued_at)},
+                {"started", time_text(h.started_at)},
+                {"ended", time_text(h.ended_at)},
                 {"duration", duration ? fmt::format("{:.3f} s", *duration) : "-"},
                 {"sweeps", std::to_string(h.sweeps)},
                 {"note", h.note.empty() ? "-" : h.note}},
                "  ");
 
-  const SweepResultRow* r = record.latest_result();
+  const store::SweepResultRecord* r = record.latest_result();
   out += "\nFigures";
   if (!r) {
     out += ": none (no sweep was analysed)\n";
   } else {
-    out += fmt::format(" (sweep {}, computed {}; ± one standard error)\n", r->sweep_index, r->computed_at);
+    out += fmt::format(" (sweep {}, computed {}; ± one standard error)\n", r->sweep, store::format_utc(r->computed_at));
     out += table({{"V_oc", figure(r->v_oc_volts, std::nullopt, "V")},
                   {"Z_out", figure(r->z_out_ohms, r->z_out_stderr_ohms, "ohm") + fmt::format(" ({} fit points)", r->fit_points)},
                   {"chord Z to rated load", figure(r->z_chord_ohms, std::nullopt, "ohm")},
@@ -142,16 +127,17 @@ std::string render_text_report(const RunRecord& record) {
   out += fmt::format("\nPoints ({})\n", record.points.size());
   std::vector<std::vector<std::string>> points = {
       {"sweep", "step", "set load", "measured A", "DC V", "ripple pp V", "settle s", "settled"}};
-  for (const auto& p : record.points) {
-    points.push_back({std::to_string(p.sweep_index), std::to_string(p.step_index), set_load_text(p),
+  for (const auto& stored : record.points) {
+    const store::PointRecord& p = stored.point;
+    points.push_back({std::to_string(stored.sweep), std::to_string(stored.step), set_load_text(p),
                       number(p.measured_load_amps), number(p.dc_volts), number(p.ripple_pp_volts),
                       fmt::format("{:.3f}", p.settle_s), p.settled ? "yes" : "NO"});
   }
   out += table(points, "  ", Align::numbers_right);
 
-  if (h.kind == "soak" && r) {
+  if (record.is_soak() && r) {
     out += fmt::format("\nDrift over {} sweeps (least-squares slope per hour ± one standard error)\n",
-                       record.soak_trend.size());
+                       record.sweep_results().size());
     out += table({{"V_oc", figure(r->v_oc_drift_volts_per_hour, r->v_oc_drift_stderr_volts_per_hour, "V/h")},
                   {"Z_out", figure(r->z_out_drift_ohms_per_hour, r->z_out_drift_stderr_ohms_per_hour, "ohm/h")},
                   {"ripple pp", figure(r->ripple_drift_volts_per_hour, r->ripple_drift_stderr_volts_per_hour, "V/h")}},
@@ -162,7 +148,7 @@ std::string render_text_report(const RunRecord& record) {
   if (!r || !r->verdict) {
     out += "none\n";
   } else {
-    out += *r->verdict == "pass" ? "PASS\n" : "FAIL\n";
+    out += *r->verdict == store::Verdict::pass ? "PASS\n" : "FAIL\n";
     for (const auto& reason : r->verdict_reasons) out += "  - " + reason + "\n";
   }
 
@@ -170,51 +156,28 @@ std::string render_text_report(const RunRecord& record) {
   out += fmt::format("\nWarnings and errors ({})\n", notable);
   std::vector<std::vector<std::string>> events;
   for (const auto& e : record.events) {
-    if (is_notable(e)) events.push_back({e.at, e.level, e.source, e.code, e.message});
+    if (is_notable(e)) {
+      events.push_back({store::format_utc(e.event.at), std::string(store::to_string(e.event.level)), e.event.source,
+                        e.event.code, e.event.message});
+    }
   }
   out += table(events, "  ");
   return out;
 }
 
 nlohmann::json render_json_report(const RunRecord& record) {
-  const RunHeader& h = record.header;
-  nlohmann::json run = {{"run_id", h.run_id},
-                        {"serial", h.serial},
-                        {"model", h.model},
-                        {"slot", h.slot ? nlohmann::json(*h.slot) : nlohmann::json(nullptr)},
-                        {"plan_name", h.plan_name},
-                        {"kind", h.kind},
-                        {"station", h.station},
-                        {"operator", h.operator_name},
-                        {"note", h.note},
-                        {"state", h.state},
-                        {"queued_at", h.queued_at},
-                        {"started_at", json_of(h.started_at)},
-                        {"ended_at", json_of(h.ended_at)},
-                        {"duration_s", json_of(run_duration_s(h))},
-                        {"sweeps", h.sweeps}};
+  const store::RunSummary& h = record.header;
+  nlohmann::json run = store::run_summary_json(h);
+  run["duration_s"] = json_of(run_duration_s(h));
 
-  const SweepResultRow* r = record.latest_result();
+  const store::SweepResultRecord* r = record.latest_result();
   nlohmann::json figures = nullptr;
   nlohmann::json drift = nullptr;
   nlohmann::json verdict = {{"verdict", nullptr}, {"reasons", nlohmann::json::array()}};
   if (r) {
-    figures = {{"sweep_index", r->sweep_index},
-               {"computed_at", r->computed_at},
-               {"fit_points", r->fit_points},
-               {"v_oc_volts", json_of(r->v_oc_volts)},
-               {"z_out_ohms", json_of(r->z_out_ohms)},
-               {"z_out_stderr_ohms", json_of(r->z_out_stderr_ohms)},
-               {"z_chord_ohms", json_of(r->z_chord_ohms)},
-               {"cascade_r_ohms", json_of(r->cascade_r_ohms)},
-               {"cascade_r_stderr_ohms", json_of(r->cascade_r_stderr_ohms)},
-               {"effective_capacitance_farads", json_of(r->effective_capacitance_farads)},
-               {"diode_drop_volts", json_of(r->diode_drop_volts)},
-               {"rated_load_amps", json_of(r->rated_load_amps)},
-               {"ripple_rated_pp_volts", json_of(r->ripple_rated_pp_volts)},
-               {"ripple_rated_rms_volts", json_of(r->ripple_rated_rms_volts)}};
-    if (h.kind == "soak") {
-      drift = {{"sweeps", record.soak_trend.size()},
+    figures = store::sweep_result_json(*r);
+    if (record.is_soak()) {
+      drift = {{"sweeps", record.sweep_results().size()},
                {"v_oc_volts_per_hour", json_of(r->v_oc_drift_volts_per_hour)},
                {"v_oc_stderr_volts_per_hour", json_of(r->v_oc_drift_stderr_volts_per_hour)},
                {"z_out_ohms_per_hour", json_of(r->z_out_drift_ohms_per_hour)},
@@ -222,7 +185,7 @@ nlohmann::json render_json_report(const RunRecord& record) {
                {"ripple_pp_volts_per_hour", json_of(r->ripple_drift_volts_per_hour)},
                {"ripple_pp_stderr_volts_per_hour", json_of(r->ripple_drift_stderr_volts_per_hour)}};
     }
-    verdict = {{"verdict", json_of(r->verdict)}, {"reasons", r->verdict_reasons}};
+    verdict = {{"verdict", figures.at("verdict")}, {"reasons", r->verdict_reasons}};
   }
 
   nlohmann::json comparison = nlohmann::json::array();
@@ -235,22 +198,11 @@ nlohmann::json render_json_report(const RunRecord& record) {
   }
 
   nlohmann::json points = nlohmann::json::array();
-  for (const auto& p : record.points) {
-    points.push_back({{"sweep_index", p.sweep_index},
-                      {"step_index", p.step_index},
-                      {"set_load_amps", json_of(p.set_load_amps)},
-                      {"set_load_ohms", json_of(p.set_load_ohms)},
-                      {"measured_load_amps", json_of(p.measured_load_amps)},
-                      {"dc_volts", p.dc_volts},
-                      {"ripple_pp_volts", json_of(p.ripple_pp_volts)},
-                      {"settle_s", p.settle_s},
-                      {"settled", p.settled}});
-  }
+  for (const auto& p : record.points) points.push_back(store::stored_point_json(p, false));
 
   nlohmann::json events = nlohmann::json::array();
   for (const auto& e : record.events) {
-    if (!is_notable(e)) continue;
-    events.push_back({{"at", e.at}, {"level", e.level}, {"source", e.source}, {"code", e.code}, {"message", e.message}});
+    if (is_notable(e)) events.push_back(store::stored_event_json(e));
   }
   return {{"run", run},     {"figures", figures}, {"model_comparison", comparison}, {"points", points},
           {"drift", drift}, {"verdict", verdict}, {"events", events}};

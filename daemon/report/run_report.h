@@ -16,7 +16,7 @@
 namespace zout::report {
 
 // Seconds from started_at to ended_at; empty when either is missing or unreadable.
-std::optional<double> run_duration_s(const RunHeader& header);
+std::optional<double> run_duration_s(const store::RunSummary& header);
 
 // The text report; every line ends in '\n'.
 std::string render_text_report(const RunRecord& record);

@@ -40,4 +40,48 @@ nlohmann::json run_summary_json(const RunSummary& run) {
   return out;
 }
 
+nlohmann::json stored_point_json(const StoredPoint& stored, bool with_readings) {
+  const PointRecord& p = stored.point;
+  const auto real = [](const std::optional<double>& v) { return v ? nlohmann::json(*v) : nlohmann::json(); };
+  nlohmann::json out = {{"point_id", stored.point_id},
+                        {"sweep_id", p.sweep_id},
+                        {"sweep", stored.sweep},
+                        {"step", stored.step},
+                        {"set_load_amps", real(p.set_load_amps)},
+                        {"set_load_ohms", real(p.set_load_ohms)},
+                        {"measured_load_amps", real(p.measured_load_amps)},
+                        {"load_amps", real(stored.load_amps)},
+                        {"dc_volts", p.dc_volts},
+                        {"ripple_rms_volts", real(p.ripple_rms_volts)},
+                        {"ripple_pp_volts", real(p.ripple_pp_volts)},
+                        {"settle_s", p.settle_s},
+                        {"settled", p.settled},
+                        {"step_started_at", format_utc(p.step_started_at)},
+                        {"taken_at", format_utc(p.taken_at)}};
+  if (with_readings) {
+    nlohmann::json readings = nlohmann::json::array();
+    for (const auto& r : stored.readings) {
+      readings.push_back({{"seq", r.seq},
+                          {"instrument_id", r.reading.instrument_id},
+                          {"instrument_role", r.instrument_role},
+                          {"kind", r.reading.kind},
+                          {"value", r.reading.value},
+                          {"taken_at", format_utc(r.reading.taken_at)}});
+    }
+    out["readings"] = readings;
+  }
+  return out;
+}
+
+nlohmann::json stored_event_json(const StoredEvent& stored) {
+  const EventRecord& e = stored.event;
+  return {{"event_id", stored.event_id},
+          {"at", format_utc(e.at)},
+          {"level", std::string(to_string(e.level))},
+          {"source", e.source},
+          {"code", e.code},
+          {"message", e.message},
+          {"run_id", e.run_id ? nlohmann::json(*e.run_id) : nlohmann::json()}};
+}
+
 }  // namespace zout::store

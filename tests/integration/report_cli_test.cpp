@@ -288,7 +288,7 @@ TEST_CASE("zout export writes every reading as CSV and the run as JSON, reading 
     CHECK(std::stod(row[column("reading_seq")]) == stored[i][1]);
     CHECK(std::stod(row[column("reading_value")]) == stored[i][2]);
     CHECK(std::stod(row[column("dc_volts")]) == stored[i][3]);
-    CHECK(std::stod(row[column("step_index")]) == stored[i][4]);
+    CHECK(std::stod(row[column("step")]) == stored[i][4] + 1);  // the export counts steps from 1
   }
 
   const fs::path out_file = dir.path / "run.json";

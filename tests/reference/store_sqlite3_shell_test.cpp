@@ -49,8 +49,8 @@ TEST_CASE("the sqlite3 shell applies schema/*.sql to the same schema StoreWriter
   REQUIRE(shell_schema.exit_code == 0);
   REQUIRE(shell_schema.out.size() > 1000);
   REQUIRE(shell_schema.out == writer_schema.out);
-  REQUIRE(shell(by_shell, "PRAGMA user_version").out == "3\n");
-  REQUIRE(shell(by_writer, "PRAGMA user_version").out == "3\n");
+  REQUIRE(shell(by_shell, "PRAGMA user_version").out == "4\n");
+  REQUIRE(shell(by_writer, "PRAGMA user_version").out == "4\n");
 }
 
 TEST_CASE("the sqlite3 shell reads the views of a store StoreWriter wrote", "[store]") {

@@ -48,13 +48,13 @@ TEST_CASE("a run record holds exactly the run, plan, points, readings, results a
   CHECK(r.header.model == "CW5");
   CHECK(r.header.station == "line-2");
   CHECK(r.header.plan_name == "cw5-production");
-  CHECK(r.header.kind == "production");
-  CHECK(r.header.state == "failed");
+  CHECK(r.header.kind == store::RunKind::production);
+  CHECK(r.header.state == store::RunState::failed);
   CHECK(r.header.operator_name == "ana");
   CHECK(r.header.note == "first article");
   CHECK(r.header.slot == 3);
-  CHECK(r.header.started_at == "2026-12-01T21:15:14.123Z");
-  CHECK(r.header.ended_at == "2026-12-01T21:16:17.123Z");  // 2 + 6·10 + 1 s later
+  CHECK(store::format_utc(*r.header.started_at) == "2026-12-01T21:15:14.123Z");
+  CHECK(store::format_utc(*r.header.ended_at) == "2026-12-01T21:16:17.123Z");  // 2 + 6·10 + 1 s later
   CHECK(report::run_duration_s(r.header) == Approx(63.0).margin(1e-9));
   CHECK(r.header.sweeps == 1);
 
@@ -66,31 +66,32 @@ TEST_CASE("a run record holds exactly the run, plan, points, readings, results a
   const auto& expected = production_points();
   REQUIRE(r.points.size() == expected.size());
   for (std::size_t i = 0; i < expected.size(); ++i) {
-    const auto& p = r.points[i];
+    const auto& stored = r.points[i];
+    const auto& p = stored.point;
     INFO("point " << i);
-    CHECK(p.sweep_index == 0);
-    CHECK(p.step_index == static_cast<std::int64_t>(i));
+    CHECK(stored.sweep == 1);  // sweeps and steps count from 1
+    CHECK(stored.step == static_cast<int>(i) + 1);
     CHECK(p.set_load_amps == expected[i].set_amps);
     CHECK(!p.set_load_ohms);
     CHECK(p.measured_load_amps == expected[i].measured_amps);
-    CHECK(p.load_amps == expected[i].measured_amps);
+    CHECK(stored.load_amps == expected[i].measured_amps);
     CHECK(p.dc_volts == expected[i].dc_volts);
     CHECK(p.ripple_pp_volts == expected[i].ripple_pp_volts);
     CHECK(p.settle_s == expected[i].settle_s);
     CHECK(p.settled == (i != 4));
-    REQUIRE(p.readings.size() == 5);
-    CHECK(p.readings[0].kind == "dc_volts");
-    CHECK(p.readings[0].value == expected[i].dc_volts - 0.125);
-    CHECK(p.readings[2].value == expected[i].dc_volts + 0.125);
-    CHECK(p.readings[4].instrument_role == "load");
-    CHECK(p.readings[4].kind == "load_amps");
-    CHECK(p.readings[4].value == expected[i].measured_amps);
-    for (std::size_t k = 0; k < p.readings.size(); ++k) CHECK(p.readings[k].seq == static_cast<std::int64_t>(k));
+    REQUIRE(stored.readings.size() == 5);
+    CHECK(stored.readings[0].reading.kind == "dc_volts");
+    CHECK(stored.readings[0].reading.value == expected[i].dc_volts - 0.125);
+    CHECK(stored.readings[2].reading.value == expected[i].dc_volts + 0.125);
+    CHECK(stored.readings[4].instrument_role == "load");
+    CHECK(stored.readings[4].reading.kind == "load_amps");
+    CHECK(stored.readings[4].reading.value == expected[i].measured_amps);
+    for (std::size_t k = 0; k < stored.readings.size(); ++k) CHECK(stored.readings[k].seq == static_cast<int>(k));
   }
   CHECK(r.reading_count() == 30);
 
-  REQUIRE(r.sweep_results.size() == 1);
-  const auto& x = r.sweep_results[0];
+  REQUIRE(r.sweep_results().size() == 1);
+  const auto& x = *r.sweep_results()[0];
   CHECK(x.fit_points == 4);
   CHECK(x.v_oc_volts == 392.4);
   CHECK(x.z_out_ohms == 119250.0);
@@ -106,35 +107,35 @@ TEST_CASE("a run record holds exactly the run, plan, points, readings, results a
   CHECK(x.ripple_rated_pp_volts == 16.6);
   CHECK(!x.model_v_oc_volts);
   CHECK(!x.v_oc_drift_volts_per_hour);
-  CHECK(x.verdict == "fail");
+  CHECK(x.verdict == store::Verdict::fail);
   CHECK(x.verdict_reasons == std::vector<std::string>{"z_out_ohms 119250 is above z_out_max_ohms 115000"});
-  CHECK(r.soak_trend.empty());
 
   REQUIRE(r.events.size() == 3);
-  CHECK(r.events[0].code == "reconnect");
-  CHECK(r.events[0].level == "warning");
-  CHECK(r.events[2].message == "-222,\"Data out of range\"");
+  CHECK(r.events[0].event.code == "reconnect");
+  CHECK(r.events[0].event.level == store::EventLevel::warning);
+  CHECK(r.events[2].event.message == "-222,\"Data out of range\"");
 }
 
 TEST_CASE("a soak run record carries its trend, hours apart", "[report]") {
   TempDir dir("zout-report-record");
   const ReportDatabase db = make_report_database(dir.path);
   const report::RunRecord r = report::load_run_record(db.file, db.soak_run);
-  CHECK(r.header.kind == "soak");
+  CHECK(r.header.kind == store::RunKind::soak);
   CHECK(!r.header.slot);
   CHECK(r.points.size() == 16);
-  REQUIRE(r.soak_trend.size() == 8);
-  REQUIRE(r.sweep_results.size() == 8);
-  for (int k = 0; k < 8; ++k) {
+  REQUIRE(r.sweeps.size() == 8);
+  REQUIRE(r.sweep_results().size() == 8);
+  for (std::size_t k = 0; k < 8; ++k) {
     INFO("sweep " << k);
-    CHECK(r.soak_trend[k].sweep_index == k);
-    CHECK(r.soak_trend[k].elapsed_s == Approx(1800.0 * k).margin(1e-3));
-    CHECK(r.soak_trend[k].v_oc_volts == soak_v_oc(k));
-    CHECK(r.soak_trend[k].z_out_ohms == soak_z_out(k));
-    CHECK(r.soak_trend[k].ripple_rated_pp_volts == soak_ripple(k));
+    const int i = static_cast<int>(k);
+    CHECK(r.sweeps[k].sweep == i + 1);
+    CHECK(r.sweeps[k].elapsed_s == Approx(1800.0 * i).margin(1e-3));
+    CHECK(r.sweeps[k].result->v_oc_volts == soak_v_oc(i));
+    CHECK(r.sweeps[k].result->z_out_ohms == soak_z_out(i));
+    CHECK(r.sweeps[k].result->ripple_rated_pp_volts == soak_ripple(i));
   }
-  CHECK(r.latest_result()->sweep_index == 7);
-  CHECK(r.points_of_sweep(3).size() == 2);
+  CHECK(r.latest_result()->sweep == 8);
+  CHECK(r.points_of_sweep(4).size() == 2);
   CHECK(r.plan->repeat.baseline_sweeps == 3);
 }
 
@@ -225,7 +226,7 @@ TEST_CASE("a soak report shows the drift slopes with their standard errors", "[r
   const auto json = report::render_json_report(record);
   CHECK(json["drift"]["z_out_ohms_per_hour"].get<double>() == 200.0);
   CHECK(json["drift"]["v_oc_stderr_volts_per_hour"].get<double>() == 0.04);
-  CHECK(json["figures"]["sweep_index"] == 7);
+  CHECK(json["figures"]["sweep"] == 8);  // the eighth sweep, counted from 1
 }
 
 TEST_CASE("export rows carry every reading with its point, in order", "[report]") {
@@ -239,10 +240,10 @@ TEST_CASE("export rows carry every reading with its point, in order", "[report]"
   const auto column = [&](const std::string& name) {
     return static_cast<std::size_t>(std::find(columns.begin(), columns.end(), name) - columns.begin());
   };
-  // Row 7: point 1 (step 1), its third reading.
+  // Row 7: the second point (step 2, counted from 1), its third reading.
   const auto& row = rows[7];
   CHECK(row[column("run_id")] == std::to_string(db.production_run));
-  CHECK(row[column("step_index")] == "1");
+  CHECK(row[column("step")] == "2");
   CHECK(row[column("reading_seq")] == "2");
   CHECK(std::stod(row[column("reading_value")]) == 391.2 + 0.125);
   CHECK(std::stod(row[column("measured_load_amps")]) == 1.0013e-5);
