@@ -1,4 +1,4 @@
-#include "daemon/analysis/cascade_model.h"
+#include "cascade_model.h"
 
 #include <stdexcept>
 #include <string>

@@ -1,4 +1,4 @@
-#include "daemon/analysis/diode_curve_fit.h"
+#include "diode_curve_fit.h"
 
 #include <algorithm>
 #include <cmath>

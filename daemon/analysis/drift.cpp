@@ -1,4 +1,4 @@
-#include "daemon/analysis/drift.h"
+#include "drift.h"
 
 #include <cmath>
 #include <stdexcept>

@@ -1,4 +1,4 @@
-#include "daemon/analysis/exponential_fit.h"
+#include "exponential_fit.h"
 
 #include <algorithm>
 #include <cmath>

@@ -1,4 +1,4 @@
-#include "daemon/analysis/fixed_dwell_detector.h"
+#include "fixed_dwell_detector.h"
 
 #include "daemon/analysis/input_checks.h"
 

@@ -1,4 +1,4 @@
-#include "daemon/analysis/impedance.h"
+#include "impedance.h"
 
 #include <algorithm>
 #include <cmath>

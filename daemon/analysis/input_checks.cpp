@@ -1,4 +1,4 @@
-#include "daemon/analysis/input_checks.h"
+#include "input_checks.h"
 
 #include <charconv>
 #include <cmath>

@@ -1,4 +1,4 @@
-#include "daemon/analysis/iv_point.h"
+#include "iv_point.h"
 
 #include <string>
 

@@ -1,4 +1,4 @@
-#include "daemon/analysis/levenberg_marquardt.h"
+#include "levenberg_marquardt.h"
 
 #include <algorithm>
 #include <cmath>

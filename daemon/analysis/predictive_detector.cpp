@@ -1,4 +1,4 @@
-#include "daemon/analysis/predictive_detector.h"
+#include "predictive_detector.h"
 
 #include <cmath>
 #include <stdexcept>

@@ -1,4 +1,4 @@
-#include "daemon/analysis/ripple.h"
+#include "ripple.h"
 
 #include <algorithm>
 #include <cmath>

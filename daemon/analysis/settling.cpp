@@ -1,4 +1,4 @@
-#include "daemon/analysis/settling.h"
+#include "settling.h"
 
 #include <stdexcept>
 #include <string>

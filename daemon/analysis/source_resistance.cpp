@@ -1,4 +1,4 @@
-#include "daemon/analysis/source_resistance.h"
+#include "source_resistance.h"
 
 #include <algorithm>
 #include <cmath>

@@ -1,4 +1,4 @@
-#include "daemon/analysis/stable_window_detector.h"
+#include "stable_window_detector.h"
 
 #include <algorithm>
 #include <stdexcept>

@@ -1,4 +1,4 @@
-#include "daemon/analysis/student_t.h"
+#include "student_t.h"
 
 #include <algorithm>
 #include <cmath>

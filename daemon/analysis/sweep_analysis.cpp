@@ -1,4 +1,4 @@
-#include "daemon/analysis/sweep_analysis.h"
+#include "sweep_analysis.h"
 
 #include <algorithm>
 #include <cmath>

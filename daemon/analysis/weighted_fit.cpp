@@ -1,4 +1,4 @@
-#include "daemon/analysis/weighted_fit.h"
+#include "weighted_fit.h"
 
 #include <algorithm>
 #include <cmath>

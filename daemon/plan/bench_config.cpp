@@ -1,6 +1,7 @@
 #include "bench_config.h"
 
 #include <fmt/format.h>
+#include <nlohmann/json.hpp>
 
 #include <filesystem>
 

@@ -1,6 +1,7 @@
 #include "json_reader.h"
 
 #include <fmt/format.h>
+#include <nlohmann/json.hpp>
 
 #include <cmath>
 #include <fstream>

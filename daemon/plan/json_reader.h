@@ -4,7 +4,7 @@
 // Readers of objects refuse keys they were not told about: a typo is an error, never
 // silently ignored.
 
-#include <nlohmann/json.hpp>
+#include <nlohmann/json_fwd.hpp>
 
 #include <optional>
 #include <set>

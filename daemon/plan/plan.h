@@ -3,7 +3,7 @@
 // plan that loads has every value finite and within physical sense. Whether it fits a
 // given bench's safety maxima is a separate check (safety_check.h).
 
-#include <nlohmann/json.hpp>
+#include <nlohmann/json_fwd.hpp>
 
 #include <optional>
 #include <string>

@@ -6,7 +6,7 @@
 //   JSON: {run (the run summary), plan (the plan document), points [each with readings],
 //   sweep_results [every column], events}.
 
-#include <nlohmann/json.hpp>
+#include <nlohmann/json_fwd.hpp>
 
 #include <string>
 #include <vector>

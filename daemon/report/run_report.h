@@ -6,7 +6,7 @@
 // and error events. Numbers in the text carry 6 significant digits; the JSON carries them
 // exactly as stored (null where the store has NULL).
 
-#include <nlohmann/json.hpp>
+#include <nlohmann/json_fwd.hpp>
 
 #include <optional>
 #include <string>

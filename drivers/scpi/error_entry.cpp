@@ -1,4 +1,4 @@
-#include "drivers/scpi/error_entry.h"
+#include "error_entry.h"
 
 #include <fmt/format.h>
 

@@ -1,4 +1,4 @@
-#include "drivers/scpi/identity.h"
+#include "identity.h"
 
 #include <fmt/format.h>
 

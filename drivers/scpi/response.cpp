@@ -1,4 +1,4 @@
-#include "drivers/scpi/response.h"
+#include "response.h"
 
 #include <fmt/format.h>
 

@@ -1,4 +1,4 @@
-#include "drivers/sim/circuit/cascade_circuit.h"
+#include "cascade_circuit.h"
 
 #include <cmath>
 #include <stdexcept>

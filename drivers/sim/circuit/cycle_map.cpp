@@ -1,4 +1,4 @@
-#include "drivers/sim/circuit/cycle_map.h"
+#include "cycle_map.h"
 
 #include <algorithm>
 #include <cmath>

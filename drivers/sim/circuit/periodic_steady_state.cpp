@@ -1,4 +1,4 @@
-#include "drivers/sim/circuit/periodic_steady_state.h"
+#include "periodic_steady_state.h"
 
 #include <algorithm>
 #include <cmath>

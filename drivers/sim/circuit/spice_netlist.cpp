@@ -1,4 +1,4 @@
-#include "drivers/sim/circuit/spice_netlist.h"
+#include "spice_netlist.h"
 
 #include <algorithm>
 #include <cctype>

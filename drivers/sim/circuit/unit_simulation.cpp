@@ -1,4 +1,4 @@
-#include "drivers/sim/circuit/unit_simulation.h"
+#include "unit_simulation.h"
 
 #include <Eigen/Dense>
 
