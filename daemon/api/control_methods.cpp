@@ -2,6 +2,7 @@
 
 #include <fmt/format.h>
 
+#include "daemon/plan/bounded_json.h"
 #include "daemon/plan/config_error.h"
 #include "daemon/plan/json_reader.h"
 #include "daemon/plan/plan.h"
@@ -24,6 +25,16 @@ auto with_params(const std::string& method, const nlohmann::json& params, Read r
   }
 }
 
+// A method that takes no params refuses any it is given (an empty object or array is none).
+void refuse_params(const std::string& method, const nlohmann::json& params) {
+  if ((params.is_object() || params.is_array()) && params.empty()) return;
+  if (params.is_object()) {
+    throw rpc::RpcError(rpc::invalid_params,
+                        fmt::format("{}: takes no params; got \"{}\"", method, escaped_bytes(params.begin().key())));
+  }
+  throw rpc::RpcError(rpc::invalid_params, method + ": takes no params");
+}
+
 }  // namespace
 
 ControlMethods::ControlMethods(Engine& engine)
@@ -31,19 +42,23 @@ ControlMethods::ControlMethods(Engine& engine)
 
 nlohmann::json ControlMethods::call(const rpc::Request& request, ControlServer::CallContext& context) {
   const auto& m = request.method;
-  if (m == "bench.describe") return engine_.describe_bench();
+  if (m == "bench.describe") {
+    refuse_params(m, request.params);
+    return engine_.describe_bench();
+  }
   if (m == "run.start") return run_start(request.params);
   if (m == "run.abort") return run_abort(request.params);
   if (m == "run.get") return run_get(request.params);
   if (m == "run.list") return run_list(request.params);
   if (m == "events.subscribe") {
+    refuse_params(m, request.params);
     context.subscribe();
     return {{"subscribed", true}};
   }
   throw rpc::RpcError(rpc::method_not_found,
                       fmt::format("method not found: \"{}\"; methods: bench.describe, run.start, run.abort, run.get, "
                                   "run.list, events.subscribe",
-                                  m));
+                                  escaped_bytes(m)));
 }
 
 nlohmann::json ControlMethods::run_start(const nlohmann::json& params) {

@@ -9,6 +9,8 @@
 
 #include <fmt/format.h>
 
+#include "daemon/plan/bounded_json.h"
+
 namespace zout {
 
 class ControlServer::Connection : public std::enable_shared_from_this<ControlServer::Connection> {
@@ -46,9 +48,8 @@ class ControlServer::Connection : public std::enable_shared_from_this<ControlSer
       if (closed_) return;
       if (ec == asio::error::not_found) {
         // The line grew past the limit without a newline.
-        send(rpc::make_error(nullptr, rpc::invalid_request,
-                             fmt::format("request refused: longer than {} bytes", max_request_bytes))
-                 .dump());
+        send(safe_dump(rpc::make_error(nullptr, rpc::invalid_request,
+                                       fmt::format("request refused: longer than {} bytes", max_request_bytes))));
         closing_after_write_ = true;
         return;
       }
@@ -64,12 +65,49 @@ class ControlServer::Connection : public std::enable_shared_from_this<ControlSer
     });
   }
 
-  void handle(const std::string& line) {
-    auto parsed = rpc::parse_request(line);
-    if (auto* error = std::get_if<nlohmann::json>(&parsed)) {
-      send(error->dump());
-      return;
+  // One line from the client: a request, or a batch of them (JSON-RPC 2.0 §6: an array in,
+  // an array of the replies out, none for notifications). Whatever the line holds, the
+  // outcome is this client's reply and nothing else: no exception leaves here, and replies
+  // are written with invalid UTF-8 replaced (safe_dump), so echoing a client's bytes cannot throw.
+  void handle(const std::string& line) noexcept {
+    try {
+      auto message = rpc::parse_message(line);
+      if (message.index() == 1) {
+        send(safe_dump(std::get<1>(message)));
+        return;
+      }
+      const nlohmann::json& document = std::get<0>(message);
+      if (!document.is_array()) {
+        const nlohmann::json reply = answer(document);
+        if (!reply.is_null()) send(safe_dump(reply));
+        return;
+      }
+      if (document.empty()) {
+        send(safe_dump(rpc::make_error(nullptr, rpc::invalid_request, "invalid request: an empty batch")));
+        return;
+      }
+      nlohmann::json replies = nlohmann::json::array();
+      for (const auto& element : document) {
+        nlohmann::json reply = answer(element);
+        if (!reply.is_null()) replies.push_back(std::move(reply));
+      }
+      if (!replies.empty()) send(safe_dump(replies));
+    } catch (const std::exception& e) {
+      try {
+        send(safe_dump(rpc::make_error(nullptr, rpc::internal_error,
+                                       std::string("internal error: ") + escaped_bytes(e.what()))));
+      } catch (...) {  // not even the error could be sent: drop this client, keep the daemon
+        close();
+      }
+    } catch (...) {
+      close();
     }
+  }
+
+  // The reply to one request object; null for a notification.
+  nlohmann::json answer(const nlohmann::json& document) {
+    auto parsed = rpc::parse_request(document);
+    if (auto* error = std::get_if<nlohmann::json>(&parsed)) return *error;
     const auto& request = std::get<rpc::Request>(parsed);
     CallContext context{[this] { subscribed_ = true; }};
     nlohmann::json response;
@@ -80,7 +118,7 @@ class ControlServer::Connection : public std::enable_shared_from_this<ControlSer
     } catch (const std::exception& e) {
       response = rpc::make_error(request.id, rpc::internal_error, std::string("internal error: ") + e.what());
     }
-    if (!request.is_notification) send(response.dump());
+    return request.is_notification ? nlohmann::json() : response;
   }
 
   void write_next() {
@@ -158,7 +196,7 @@ void ControlServer::accept_next() {
 }
 
 void ControlServer::broadcast(const std::string& method, const nlohmann::json& params) {
-  std::string line = rpc::make_notification(method, params).dump();
+  std::string line = safe_dump(rpc::make_notification(method, params));
   asio::post(io_, [this, line = std::move(line)] {
     auto open = connections_;
     for (const auto& connection : open) {

@@ -1,35 +1,44 @@
 #include "json_rpc.h"
 
+#include "daemon/plan/bounded_json.h"
+
 namespace zout::rpc {
 
-std::variant<Request, nlohmann::json> parse_request(const std::string& line) {
-  nlohmann::json document;
+std::variant<nlohmann::json, nlohmann::json> parse_message(const std::string& line) {
   try {
-    document = nlohmann::json::parse(line);
-  } catch (const nlohmann::json::parse_error& e) {
-    return make_error(nullptr, parse_error, std::string("parse error: ") + e.what());
+    return std::variant<nlohmann::json, nlohmann::json>(std::in_place_index<0>, parse_bounded_json(line));
+  } catch (const JsonRefused& e) {
+    return std::variant<nlohmann::json, nlohmann::json>(std::in_place_index<1>,
+                                                        make_error(nullptr, parse_error, std::string("parse error: ") + e.what()));
   }
+}
+
+std::variant<Request, nlohmann::json> parse_request(const nlohmann::json& document) {
   if (!document.is_object()) return make_error(nullptr, invalid_request, "invalid request: not a JSON object");
-  nlohmann::json id = document.contains("id") ? document["id"] : nlohmann::json();
+  const auto id_member = document.find("id");
+  const nlohmann::json id = id_member != document.end() ? *id_member : nlohmann::json();
   if (!id.is_null() && !id.is_string() && !id.is_number_integer()) {
     return make_error(nullptr, invalid_request, "invalid request: id must be a string, an integer or null");
   }
-  if (document.value("jsonrpc", "") != "2.0") {
-    return make_error(id, invalid_request, "invalid request: \"jsonrpc\" must be \"2.0\"");
+  const auto version = document.find("jsonrpc");
+  if (version == document.end() || !version->is_string() || version->get<std::string>() != "2.0") {
+    return make_error(id, invalid_request, "invalid request: \"jsonrpc\" must be the string \"2.0\"");
   }
-  if (!document.contains("method") || !document["method"].is_string()) {
+  const auto method = document.find("method");
+  if (method == document.end() || !method->is_string()) {
     return make_error(id, invalid_request, "invalid request: \"method\" must be a string");
   }
   for (const auto& [key, unused] : document.items()) {
     if (key != "jsonrpc" && key != "method" && key != "params" && key != "id") {
-      return make_error(id, invalid_request, "invalid request: unknown member \"" + key + "\"");
+      return make_error(id, invalid_request, "invalid request: unknown member \"" + escaped_bytes(key) + "\"");
     }
   }
   Request request;
   request.id = id;
-  request.is_notification = !document.contains("id");
-  request.method = document["method"].get<std::string>();
-  request.params = document.contains("params") ? document["params"] : nlohmann::json::object();
+  request.is_notification = id_member == document.end();
+  request.method = method->get<std::string>();
+  const auto params = document.find("params");
+  request.params = params != document.end() ? *params : nlohmann::json::object();
   if (!request.params.is_object() && !request.params.is_array()) {
     return make_error(id, invalid_request, "invalid request: \"params\" must be an object or an array");
   }

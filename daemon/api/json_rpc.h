@@ -44,8 +44,14 @@ struct Request {
   nlohmann::json params;  // object or array; an empty object when absent
 };
 
-// Parses one line. On a malformed line returns the error response to send instead.
-std::variant<Request, nlohmann::json> parse_request(const std::string& line);
+// Parses one line into its JSON (index 0), bounded as daemon/plan/bounded_json.h says; a line
+// that is not JSON, nests too deep or overflows a number gives the -32700 response to send
+// instead (index 1). Never throws for any input.
+std::variant<nlohmann::json, nlohmann::json> parse_message(const std::string& line);
+
+// Checks one request object (one line's JSON, or one element of a batch, JSON-RPC 2.0 §4
+// and §6). A malformed one gives the -32600 response to send instead. Never throws.
+std::variant<Request, nlohmann::json> parse_request(const nlohmann::json& document);
 
 nlohmann::json make_result(const nlohmann::json& id, nlohmann::json result);
 nlohmann::json make_error(const nlohmann::json& id, int code, const std::string& message,

@@ -4,9 +4,11 @@
 #include <nlohmann/json.hpp>
 
 #include <cmath>
+#include <filesystem>
 #include <fstream>
 #include <sstream>
 
+#include "daemon/plan/bounded_json.h"
 #include "daemon/plan/config_error.h"
 
 namespace zout {
@@ -33,13 +35,25 @@ JsonReader::JsonReader(const nlohmann::json& value, std::string path, std::strin
     : value_(value), path_(std::move(path)), origin_(std::move(origin)) {}
 
 nlohmann::json JsonReader::parse_file(const std::string& file_path) {
+  // A regular file only: reading a FIFO or a device could block for ever, and a file past
+  // the cap is no plan, bench or dialect zout wrote.
+  std::error_code error;
+  const auto status = std::filesystem::status(file_path, error);
+  if (error || !std::filesystem::exists(status)) throw ConfigError(fmt::format("{}: cannot open file", file_path));
+  if (!std::filesystem::is_regular_file(status)) {
+    throw ConfigError(fmt::format("{}: not a regular file (a directory, FIFO or device is refused)", file_path));
+  }
+  const auto size = std::filesystem::file_size(file_path, error);
+  if (error || size > max_file_bytes) {
+    throw ConfigError(fmt::format("{}: larger than {} bytes; refused", file_path, max_file_bytes));
+  }
   std::ifstream in(file_path);
   if (!in) throw ConfigError(fmt::format("{}: cannot open file", file_path));
   std::stringstream text;
   text << in.rdbuf();
   try {
-    return nlohmann::json::parse(text.str());
-  } catch (const nlohmann::json::parse_error& e) {
+    return parse_bounded_json(text.str());
+  } catch (const JsonRefused& e) {
     throw ConfigError(fmt::format("{}: not valid JSON: {}", file_path, e.what()));
   }
 }

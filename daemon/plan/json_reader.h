@@ -6,6 +6,7 @@
 
 #include <nlohmann/json_fwd.hpp>
 
+#include <cstdint>
 #include <optional>
 #include <set>
 #include <string>
@@ -18,8 +19,12 @@ class JsonReader {
   // `value` must outlive the reader. `origin` is the file name used in messages.
   JsonReader(const nlohmann::json& value, std::string path, std::string origin);
 
-  // Reads a whole file; throws ConfigError naming the file (missing, unreadable, or JSON
-  // that does not parse, with line and column).
+  // The largest file parse_file reads.
+  static constexpr std::uintmax_t max_file_bytes = 4 * 1024 * 1024;
+
+  // Reads a whole regular file of at most max_file_bytes and parses it with the bounds of
+  // bounded_json.h; throws ConfigError naming the file (missing, not a regular file, too
+  // large, unreadable, or JSON that does not parse, nests too deep or overflows a number).
   static nlohmann::json parse_file(const std::string& file_path);
 
   const std::string& path() const { return path_; }
