@@ -150,7 +150,8 @@ class ControlServer::Connection : public std::enable_shared_from_this<ControlSer
 };
 
 ControlServer::ControlServer(asio::io_context& io, std::string socket_path, Dispatch dispatch)
-    : io_(io), socket_path_(std::move(socket_path)), dispatch_(std::move(dispatch)), acceptor_(io) {}
+    : io_(io), socket_path_(std::move(socket_path)), dispatch_(std::move(dispatch)), acceptor_(io),
+      accept_retry_timer_(io) {}
 
 ControlServer::~ControlServer() { stop(); }
 
@@ -177,6 +178,7 @@ void ControlServer::start() {
 
 void ControlServer::stop() {
   asio::error_code ignored;
+  accept_retry_timer_.cancel();
   if (acceptor_.is_open()) {
     acceptor_.close(ignored);
     std::filesystem::remove(socket_path_, ignored);
@@ -187,10 +189,35 @@ void ControlServer::stop() {
 
 void ControlServer::accept_next() {
   acceptor_.async_accept([this](const asio::error_code& ec, asio::local::stream_protocol::socket socket) {
-    if (ec) return;  // acceptor closed
-    auto connection = std::make_shared<Connection>(*this, std::move(socket));
-    connections_.insert(connection);
-    connection->start();
+    if (!acceptor_.is_open() || ec == asio::error::operation_aborted) return;  // stopped
+    if (ec) {
+      // Out of file descriptors (or another passing failure): keep the socket, try again
+      // shortly, so the daemon answers again once clients have gone.
+      if (!accept_failing_) std::cerr << "zoutd: cannot accept control connections: " << ec.message() << "; retrying\n";
+      accept_failing_ = true;
+      accept_retry_timer_.expires_after(accept_retry);
+      accept_retry_timer_.async_wait([this](const asio::error_code& wait_error) {
+        if (!wait_error) accept_next();
+      });
+      return;
+    }
+    if (accept_failing_) std::cerr << "zoutd: accepting control connections again\n";
+    accept_failing_ = false;
+    if (connections_.size() >= max_clients) {
+      const std::string refusal =
+          safe_dump(rpc::make_error(nullptr, rpc::refused,
+                                    fmt::format("zoutd serves at most {} control clients at once; try again later",
+                                                max_clients))) +
+          "\n";
+      asio::error_code ignored;
+      socket.non_blocking(true, ignored);
+      socket.write_some(asio::buffer(refusal), ignored);  // best effort; never waits
+      socket.close(ignored);
+    } else {
+      auto connection = std::make_shared<Connection>(*this, std::move(socket));
+      connections_.insert(connection);
+      connection->start();
+    }
     accept_next();
   });
 }

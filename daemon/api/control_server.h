@@ -4,6 +4,7 @@
 // refused and the connection closed; a client that stops reading is dropped once its
 // unsent replies pass a bound, so no client can block a run or the daemon.
 
+#include <chrono>
 #include <cstddef>
 #include <functional>
 #include <memory>
@@ -28,6 +29,11 @@ class ControlServer {
 
   static constexpr std::size_t max_request_bytes = 1024 * 1024;
   static constexpr std::size_t max_pending_bytes = 8 * 1024 * 1024;
+  // Connections served at once; one more is told so and closed. Well under the systemd
+  // unit's LimitNOFILE, which also covers the instrument links and the database.
+  static constexpr std::size_t max_clients = 256;
+  // When accepting fails (no file descriptor left: EMFILE, ENFILE), the next try waits this long.
+  static constexpr std::chrono::milliseconds accept_retry{100};
 
   ControlServer(asio::io_context& io, std::string socket_path, Dispatch dispatch);
   ~ControlServer();
@@ -49,6 +55,8 @@ class ControlServer {
   std::string socket_path_;
   Dispatch dispatch_;
   asio::local::stream_protocol::acceptor acceptor_;
+  asio::steady_timer accept_retry_timer_;
+  bool accept_failing_ = false;  // logs a failing streak once, and its end
   std::set<std::shared_ptr<Connection>> connections_;
 };
 

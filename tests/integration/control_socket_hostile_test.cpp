@@ -3,6 +3,9 @@
 // ends as it would have, with the bench left safe.
 #include <catch2/catch.hpp>
 
+#include <thread>
+
+#include "daemon/api/json_rpc.h"
 #include "tests/integration/daemon_bench.h"
 
 using namespace zout;
@@ -66,4 +69,48 @@ TEST_CASE("zoutd answers hostile lines with their error replies while a run goes
   CHECK(bench.wait_final(ids[0], 120s) == "passed");
   CHECK_FALSE(bench.instrument_state_on("source", "OUTP?"));
   CHECK_FALSE(bench.instrument_state_on("load", "INP?"));
+}
+
+TEST_CASE("zoutd refuses clients past its bound politely, and serves again after running out of descriptors",
+          "[daemon][hardening]") {
+  Bench bench;
+  const std::string socket = bench.dir + "/zoutd.sock";
+  {
+    // Past max_clients (256): the extra ones are told so and closed; the others are served.
+    std::vector<std::unique_ptr<ControlClient>> clients;
+    for (int i = 0; i < 255; ++i) clients.push_back(std::make_unique<ControlClient>(socket));  // bench.client is the 256th
+    CHECK(clients.back()->call("run.list", json::object()).at("runs").empty());
+    int refused = 0;
+    for (int i = 0; i < 10; ++i) {
+      ControlClient extra(socket);
+      try {
+        extra.call("run.list", json::object(), 2000ms);
+      } catch (const ControlCallError& e) {
+        CHECK(e.code() == rpc::refused);
+        CHECK_THAT(e.what(), Catch::Contains("at most 256"));
+        ++refused;
+      }
+    }
+    CHECK(refused == 10);
+  }
+  // Under a soft limit of 64 descriptors (prlimit, util-linux), 200 connections run zoutd out
+  // of them; once they are gone it answers again (it used to stop accepting for good).
+  bench.client.reset();
+  bench.daemon.reset();
+  bench.daemon = std::make_unique<SimProcess>(
+      std::vector<std::string>{"/usr/bin/prlimit", "--nofile=64:64", ZOUTD_PATH, "--bench", bench.bench_path}, 15s);
+  {
+    std::vector<std::unique_ptr<ControlClient>> flood;
+    for (int i = 0; i < 200; ++i) {
+      try {
+        flood.push_back(std::make_unique<ControlClient>(socket));
+      } catch (const std::exception&) {
+        break;  // the listen backlog is full: enough
+      }
+    }
+    CHECK(flood.size() > 64);
+    std::this_thread::sleep_for(500ms);
+  }
+  ControlClient after(socket);
+  CHECK(after.call("bench.describe", json::object(), 10s).at("station") == "test-bench");
 }
