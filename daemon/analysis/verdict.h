@@ -1,9 +1,11 @@
 #pragma once
 // Pass/fail of a unit against the plan's limits. Every limit the plan sets is checked and
-// leaves a reason, passed or not ("z_out_ohms 412000 > max 350000"). The verdict passes only
-// when every check passes; a figure that could not be computed fails each of its limits with
-// that reason ("z_out_ohms not computed: ... (max 350000)"). A limit the plan leaves out is not
-// checked. Equality passes (a max is inclusive, so is a min).
+// leaves a reason a person reads, passed or not, with the figure's name, SI prefixes and
+// units (daemon/text): "Z_out 239 kΩ > 225 kΩ max", "V_oc 381.9 V < 383 V min". The measured
+// value gets more digits where it would otherwise read the same as the limit. The verdict
+// passes only when every check passes; a figure that could not be computed fails each of its
+// limits with that reason ("Z_out not computed: <why> (max 225 kΩ)"). A limit the plan leaves
+// out is not checked. Equality passes (a max is inclusive, so is a min).
 
 #include <optional>
 #include <string>
@@ -13,22 +15,23 @@
 
 namespace zout::analysis {
 
-// The plan's limits; each optional, SI units as named.
+// The plan's limits, spelled as the plan file's keys (plan.limits.<name>): each optional (an
+// absent one is not checked), SI units as named.
 struct Limits {
-  std::optional<double> v_oc_volts_min;
-  std::optional<double> v_oc_volts_max;
-  std::optional<double> z_out_ohms_max;
-  std::optional<double> ripple_pp_volts_max;  // at the rated load
-  std::optional<double> effective_capacitance_farads_min;
-  std::optional<double> diode_drop_volts_max;
+  std::optional<double> v_oc_min_volts;
+  std::optional<double> v_oc_max_volts;
+  std::optional<double> z_out_max_ohms;
+  std::optional<double> ripple_pp_max_volts;  // at the rated load
+  std::optional<double> effective_capacitance_min_farads;
+  std::optional<double> diode_drop_max_volts;
   // Soak drift, on the magnitude of the per-hour slope.
-  std::optional<double> v_oc_drift_volts_per_hour_max;
-  std::optional<double> z_out_drift_ohms_per_hour_max;
-  std::optional<double> ripple_drift_volts_per_hour_max;
+  std::optional<double> v_oc_drift_max_volts_per_hour;
+  std::optional<double> z_out_drift_max_ohms_per_hour;
+  std::optional<double> ripple_drift_max_volts_per_hour;
 };
 
 // Throws std::invalid_argument naming the limit when one is not finite, a drift limit or a
-// maximum that must be positive is <= 0, or v_oc_volts_min > v_oc_volts_max.
+// maximum that must be positive is <= 0, or v_oc_min_volts > v_oc_max_volts.
 void validate_limits(const Limits& limits);
 
 // The figures of one sweep that limits apply to.
@@ -48,11 +51,11 @@ struct DriftFigures {
 };
 
 struct LimitCheck {
-  std::string name;          // the limit's name as in Limits, e.g. "z_out_ohms_max"
+  std::string name;          // the limit's name as in Limits, e.g. "z_out_max_ohms"
   double limit = 0.0;
   std::optional<double> measured;
   bool passed = false;
-  std::string reason;        // e.g. "z_out_ohms 412000 > max 350000"
+  std::string reason;        // e.g. "Z_out 412 kΩ > 350 kΩ max"
 };
 
 struct Verdict {

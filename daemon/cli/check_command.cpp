@@ -13,7 +13,8 @@
 #include "daemon/cli/command_errors.h"
 #include "daemon/cli/exit_codes.h"
 #include "daemon/cli/history_verbs.h"
-#include "daemon/cli/si_format.h"
+#include "daemon/text/si_text.h"
+#include "daemon/text/time_text.h"
 #include "daemon/cli/text_table.h"
 #include "daemon/plan/bench_config.h"
 #include "daemon/plan/plan.h"
@@ -102,11 +103,11 @@ int run_check(const CheckOptions& o) {
     std::cout << fmt::format("plan {} ({}): valid\n", plan.name, o.plan);
     std::cout << fmt::format("bench {} (station {})\n", bench_path, bench.station);
     std::cout << fmt::format("unit: {} stages of {}, driven {} peak at {}\n", plan.dut.stages,
-                             si(plan.dut.capacitance_farads, "F", 3), si(plan.source.amplitude_volts_peak, "V", 3),
-                             si(plan.source.frequency_hz, "Hz", 3));
+                             text::si_text(plan.dut.capacitance_farads, "F", 3), text::si_text(plan.source.amplitude_volts_peak, "V", 3),
+                             text::si_text(plan.source.frequency_hz, "Hz", 3));
     std::cout << fmt::format("Cockcroft–Walton model: ideal no-load output 2n·V_pk = {}, source resistance {}\n",
-                             si(ideal, "V", 4),
-                             si(analysis::model_source_ohms(plan.dut.stages, plan.source.frequency_hz,
+                             text::si_text(ideal, "V", 4),
+                             text::si_text(analysis::model_source_ohms(plan.dut.stages, plan.source.frequency_hz,
                                                             plan.dut.capacitance_farads),
                                 "Ω", 4));
     TextTable table({"STEP", plan.load.mode == LoadStepMode::current ? "SET A" : "SET Ω", "LOAD", "PREDICTED V",
@@ -114,16 +115,16 @@ int run_check(const CheckOptions& o) {
     for (std::size_t i = 0; i < steps.size(); ++i) {
       const auto& p = steps[i];
       table.add_row({std::to_string(i + 1),
-                     plan.load.mode == LoadStepMode::current ? si(p.set_value, "A", 3) : si(p.set_value, "Ω", 3),
-                     si(p.load_amps, "A", 3), si(p.output_volts, "V", 5), si(p.ripple_pp_volts, "V", 3)});
+                     plan.load.mode == LoadStepMode::current ? text::si_text(p.set_value, "A", 3) : text::si_text(p.set_value, "Ω", 3),
+                     text::si_text(p.load_amps, "A", 3), text::si_text(p.output_volts, "V", 5), text::si_text(p.ripple_pp_volts, "V", 3)});
     }
     std::cout << table.render();
     std::cout << "(ideal diodes: a real unit reads lower by its diode drops, and its ripple meter sees the RMS)\n";
-    std::cout << fmt::format("time: at most {} ({} sweep(s) × {} steps × max_s {} s)\n", clock_time(worst_case_s),
+    std::cout << fmt::format("time: at most {} ({} sweep(s) × {} steps × max_s {} s)\n", text::clock_time(worst_case_s),
                              plan.repeat.count, plan.load.steps.size(), plan.settle.max_s);
     if (violations.empty()) {
-      std::cout << fmt::format("safety: within the bench's maxima (output can reach {} of {} allowed)\n", si(ideal, "V", 4),
-                               si(bench.safety.max_output_volts, "V", 4));
+      std::cout << fmt::format("safety: within the bench's maxima (output can reach {} of {} allowed)\n", text::si_text(ideal, "V", 4),
+                               text::si_text(bench.safety.max_output_volts, "V", 4));
     } else {
       std::cout << "safety: REFUSED on this bench:\n";
       for (const auto& v : violations) std::cout << "  - " << v << "\n";

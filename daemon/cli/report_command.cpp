@@ -10,6 +10,7 @@
 
 #include "daemon/cli/client_paths.h"
 #include "daemon/cli/exit_codes.h"
+#include "daemon/cli/time_zone_option.h"
 #include "daemon/report/gnuplot_runner.h"
 #include "daemon/report/plot_writer.h"
 #include "daemon/report/run_record.h"
@@ -24,6 +25,7 @@ struct ReportOptions {
   ClientPaths paths;
   std::string plot_directory;
   bool json = false;
+  text::TimeZoneChoice zone = text::TimeZoneChoice::utc;
 };
 
 int run_report(const ReportOptions& options) {
@@ -39,7 +41,7 @@ int run_report(const ReportOptions& options) {
     if (options.json) {
       std::cout << report::render_json_report(record).dump(2) << "\n";
     } else {
-      std::cout << report::render_text_report(record);
+      std::cout << report::render_text_report(record, options.zone);
     }
     if (!options.plot_directory.empty()) {
       const std::filesystem::path directory(options.plot_directory);
@@ -84,7 +86,8 @@ void add_report_command(CLI::App& app, int& exit_code) {
   options->paths.add_options(*verb, false, true);
   verb->add_option("--plot", options->plot_directory,
                    "Also draw the plots (gnuplot) as SVG and PNG into this directory, created when missing");
-  verb->add_flag("--json", options->json, "Print the report as one JSON object instead of text");
+  verb->add_flag("--json", options->json, "Print the report as one JSON object instead of text (times as stored: UTC)");
+  add_time_zone_option(*verb, options->zone);
   verb->footer(
       "Reads the database only; zoutd need not run. Plots: run-RUN-iv (DC output against load\n"
       "current with the local fit, the tangent at the operating current and the Cockcroft-Walton\n"

@@ -7,8 +7,11 @@
 #include <ostream>
 
 #include "daemon/cli/exit_codes.h"
-#include "daemon/cli/si_format.h"
 #include "daemon/store/run_state.h"
+#include "daemon/text/missing_value.h"
+#include "daemon/text/quantity_names.h"
+#include "daemon/text/si_text.h"
+#include "daemon/text/time_text.h"
 
 namespace zout::cli {
 namespace {
@@ -39,8 +42,15 @@ int exit_status_for(const std::map<std::int64_t, std::string>& states) {
   return code;
 }
 
-RunFollower::RunFollower(ControlClient& client, std::ostream& out, bool json_lines, bool terminal)
-    : client_(client), out_(out), json_lines_(json_lines), terminal_(terminal && !json_lines) {}
+RunFollower::RunFollower(ControlClient& client, std::ostream& out, bool json_lines, bool terminal,
+                         text::TimeZoneChoice zone)
+    : client_(client), out_(out), json_lines_(json_lines), terminal_(terminal && !json_lines), zone_(zone) {}
+
+// " at <time>" for the UTC text at `key`, in the follower's time zone; empty when there is none.
+std::string RunFollower::at_text(const json& object, const char* key) const {
+  if (!object.contains(key) || !object.at(key).is_string()) return "";
+  return " at " + text::display_time(object.at(key).get<std::string>(), zone_);
+}
 
 std::map<std::int64_t, std::string> RunFollower::follow(const std::vector<std::int64_t>& run_ids) {
   // Subscribe first, then read each run: nothing can happen unseen in between.
@@ -59,7 +69,7 @@ std::map<std::int64_t, std::string> RunFollower::follow(const std::vector<std::i
     if (f.state == "running") f.started_s = now_s();
     runs_[id] = f;
     if (store::is_final_state_word(f.state) && !json_lines_) {
-      out_ << fmt::format("run {} {}: already ended {}\n", id, f.serial, f.state);
+      out_ << fmt::format("run {} {}: already ended {}{}\n", id, f.serial, f.state, at_text(run, "ended_at"));
     } else if (store::is_final_state_word(f.state)) {
       out_ << json{{"method", "run.state"}, {"params", {{"run_id", id}, {"state", f.state}}}}.dump() << "\n";
     }
@@ -96,7 +106,7 @@ void RunFollower::on_notification(const json& message) {
       current_ = id;
       if (!json_lines_) {
         clear_bar();
-        out_ << fmt::format("run {} {}: running\n", id, f.serial);
+        out_ << fmt::format("run {} {}: running{}\n", id, f.serial, at_text(params, "at"));
       }
     }
     if (store::is_final_state_word(f.state) && !json_lines_) print_end(id, params);
@@ -118,12 +128,12 @@ void RunFollower::on_notification(const json& message) {
 void RunFollower::print_point(std::int64_t id, const json& p) {
   clear_bar();
   const Followed& f = runs_[id];
-  std::string load = p.contains("set_amps") ? si(p.at("set_amps").get<double>(), "A", 3)
-                                            : si(p.value("set_ohms", 0.0), "Ω", 3);
+  std::string load = p.contains("set_amps") ? text::si_text(p.at("set_amps").get<double>(), "A", 3)
+                                            : text::si_text(p.value("set_ohms", 0.0), "Ω", 3);
   std::string line = fmt::format("run {} {}  sweep {}/{} step {:>2}/{}  load {:>9}  {:>9}", id, f.serial,
                                  p.value("sweep", 0), p.value("sweep_count", 0), p.value("step", 0),
-                                 p.value("step_count", 0), load, si(p.value("dc_volts", 0.0), "V", 5));
-  if (auto ripple = number_at(p, "ripple_pp_volts")) line += fmt::format("  ripple {:>9} pp", si(*ripple, "V", 3));
+                                 p.value("step_count", 0), load, text::si_text(p.value("dc_volts", 0.0), "V", 5));
+  if (auto ripple = number_at(p, "ripple_pp_volts")) line += fmt::format("  ripple {:>9} pp", text::si_text(*ripple, "V", 3));
   line += fmt::format("  settled in {:.2f} s", p.value("settle_s", 0.0));
   if (!p.value("settled", true)) line += " (NOT settled: max_s ran out)";
   if (!terminal_) line += "  " + bar_text(f, 10);  // no bar redrawn in place: progress on each line
@@ -133,11 +143,16 @@ void RunFollower::print_point(std::int64_t id, const json& p) {
 void RunFollower::print_sweep(std::int64_t id, const json& r) {
   clear_bar();
   const Followed& f = runs_[id];
-  std::string line = fmt::format("run {} {}  sweep {}: V_oc {}  Z_out {}", id, f.serial, r.value("sweep", 0),
-                                 si(number_at(r, "v_oc_volts"), "V", 5), si(number_at(r, "z_out_ohms"), "Ω", 3));
-  if (auto se = number_at(r, "z_out_stderr_ohms")) line += " ± " + si(*se, "Ω", 2);
-  line += fmt::format("  ripple at rated load {}", si(number_at(r, "ripple_rated_pp_volts"), "V", 3));
-  if (auto drift = number_at(r, "v_oc_drift_volts_per_hour")) line += fmt::format("  V_oc drift {}/h", si(*drift, "V", 3));
+  std::string line = fmt::format("run {} {}  sweep {}: {} {}  {} {}", id, f.serial, r.value("sweep", 0),
+                                 text::quantity::v_oc, text::si_text(number_at(r, "v_oc_volts"), "V", 5),
+                                 text::quantity::z_out,
+                                 text::si_with_uncertainty(number_at(r, "z_out_ohms"), number_at(r, "z_out_stderr_ohms"),
+                                                           "Ω", 3));
+  line += fmt::format("  {} at rated load {}", text::quantity::ripple_pp,
+                      text::si_text(number_at(r, "ripple_rated_pp_volts"), "V", 3));
+  if (auto drift = number_at(r, "v_oc_drift_volts_per_hour")) {
+    line += fmt::format("  {} {}", text::quantity::v_oc_drift, text::si_text(*drift, "V/h", 3));
+  }
   line += fmt::format("  → {}", r.value("verdict", "?"));
   out_ << line << "\n";
   for (const auto& reason : r.value("reasons", json::array())) out_ << "    reason: " << reason.get<std::string>() << "\n";
@@ -147,7 +162,7 @@ void RunFollower::print_sweep(std::int64_t id, const json& r) {
 void RunFollower::print_end(std::int64_t id, const json& params) {
   clear_bar();
   const Followed& f = runs_[id];
-  std::string line = fmt::format("run {} {}: {}", id, f.serial, f.state);
+  std::string line = fmt::format("run {} {}: {}{}", id, f.serial, f.state, at_text(params, "at"));
   if (params.contains("reason") && params.at("reason").is_string()) line += " — " + params.at("reason").get<std::string>();
   out_ << line << "\n";
 }
@@ -158,10 +173,11 @@ std::string RunFollower::bar_text(const Followed& f, int width) {
   const double fraction = static_cast<double>(done) / total;
   const int filled = static_cast<int>(fraction * width);
   const double elapsed = f.started_s >= 0.0 ? now_s() - f.started_s : 0.0;
-  const std::string remaining = done > 0 ? "~" + clock_time(elapsed / fraction - elapsed) : "—";
+  const std::string remaining = done > 0 ? "~" + text::clock_time(elapsed / fraction - elapsed)
+                                         : std::string(text::missing_value_mark);
   return fmt::format("[{}{}] {:3.0f}%  elapsed {}  remaining {}", std::string(static_cast<std::size_t>(filled), '#'),
                      std::string(static_cast<std::size_t>(width - filled), '.'), 100.0 * fraction,
-                     clock_time(elapsed), remaining);
+                     text::clock_time(elapsed), remaining);
 }
 
 void RunFollower::draw_bar() {

@@ -12,13 +12,16 @@
 #include <vector>
 
 #include "daemon/api/control_client.h"
+#include "daemon/text/time_text.h"
 
 namespace zout::cli {
 
 class RunFollower {
  public:
-  // `client` must outlive the follower; the follower subscribes it to notifications.
-  RunFollower(ControlClient& client, std::ostream& out, bool json_lines, bool terminal);
+  // `client` must outlive the follower; the follower subscribes it to notifications. Times
+  // in the text lines are shown in `zone` (JSON lines carry the daemon's UTC text).
+  RunFollower(ControlClient& client, std::ostream& out, bool json_lines, bool terminal,
+              text::TimeZoneChoice zone);
 
   // Follows `run_ids` until every one has ended (queued ones are waited for); returns each
   // run's final state ("passed", "failed", "aborted", "interrupted", "error").
@@ -37,6 +40,7 @@ class RunFollower {
   void print_point(std::int64_t run_id, const nlohmann::json& point);
   void print_sweep(std::int64_t run_id, const nlohmann::json& result);
   void print_end(std::int64_t run_id, const nlohmann::json& params);
+  std::string at_text(const nlohmann::json& object, const char* key) const;
   // "[#####.....]  45%  elapsed 0:12  remaining ~0:15" for one run.
   static std::string bar_text(const Followed& f, int width);
   void draw_bar();
@@ -46,6 +50,7 @@ class RunFollower {
   std::ostream& out_;
   bool json_lines_;
   bool terminal_;
+  text::TimeZoneChoice zone_;
   bool bar_shown_ = false;
   std::int64_t current_ = 0;
   std::map<std::int64_t, Followed> runs_;

@@ -13,8 +13,11 @@
 #include "daemon/cli/command_errors.h"
 #include "daemon/cli/exit_codes.h"
 #include "daemon/cli/history_verbs.h"
-#include "daemon/cli/si_format.h"
+#include "daemon/text/si_text.h"
+#include "daemon/text/missing_value.h"
+#include "daemon/text/time_text.h"
 #include "daemon/cli/text_table.h"
+#include "daemon/cli/time_zone_option.h"
 #include "daemon/store/record_json.h"
 #include "daemon/store/run_reader.h"
 
@@ -29,6 +32,7 @@ struct RunsOptions {
   std::string serial;
   int limit = 20;
   bool json_output = false;
+  text::TimeZoneChoice zone = text::TimeZoneChoice::utc;
 };
 
 int run_runs(const RunsOptions& o) {
@@ -58,10 +62,11 @@ int run_runs(const RunsOptions& o) {
       return run.latest_result ? (*run.latest_result).*member : std::nullopt;
     };
     table.add_row({std::to_string(run.run_id), run.serial, run.plan_name, std::string(store::to_string(run.state)),
-                   run.started_at ? store::format_utc(*run.started_at).substr(0, 19) : "",
-                   took_s ? clock_time(*took_s) : "", si(figure(&store::SweepResultRecord::v_oc_volts), "V", 5),
-                   si(figure(&store::SweepResultRecord::z_out_ohms), "Ω", 3),
-                   si(figure(&store::SweepResultRecord::ripple_rated_pp_volts), "V", 3)});
+                   run.started_at ? text::display_time(*run.started_at, o.zone) : std::string(text::missing_value_mark),
+                   took_s ? text::clock_time(*took_s) : std::string(text::missing_value_mark),
+                   text::si_text(figure(&store::SweepResultRecord::v_oc_volts), "V", 5),
+                   text::si_text(figure(&store::SweepResultRecord::z_out_ohms), "Ω", 3),
+                   text::si_text(figure(&store::SweepResultRecord::ripple_rated_pp_volts), "V", 3)});
   }
   if (o.json_output) {
     std::cout << rows.dump(2) << "\n";
@@ -82,7 +87,8 @@ void add_runs_command(CLI::App& app, int& exit_code) {
       ->check(CLI::IsMember(store::run_state_word_list()));
   verb->add_option("--serial", o->serial, "Only runs of this unit");
   verb->add_option("--limit", o->limit, "At most this many runs")->default_val(20)->check(CLI::Range(1, 100000));
-  verb->add_flag("--json", o->json_output, "Print a JSON array");
+  verb->add_flag("--json", o->json_output, "Print a JSON array (times as stored: ISO-8601 UTC)");
+  add_time_zone_option(*verb, o->zone);
   o->paths.add_options(*verb, false, true);
   verb->footer("Exit status: 0 ok, 1 the database cannot be read.\nExample: zout runs --state failed --limit 50");
   verb->callback(verb_callback("runs", exit_code, [o] { return run_runs(*o); }));

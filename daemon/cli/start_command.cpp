@@ -11,6 +11,7 @@
 #include "daemon/cli/daemon_verbs.h"
 #include "daemon/cli/exit_codes.h"
 #include "daemon/cli/run_follower.h"
+#include "daemon/cli/time_zone_option.h"
 #include "daemon/cli/unit_list.h"
 
 namespace zout::cli {
@@ -27,6 +28,7 @@ struct StartOptions {
   std::string note;
   bool watch = false;
   bool json_output = false;
+  text::TimeZoneChoice zone = text::TimeZoneChoice::utc;
 };
 
 int run_start(const StartOptions& o) {
@@ -53,7 +55,7 @@ int run_start(const StartOptions& o) {
     }
   }
   if (!o.watch) return exit_ok;
-  RunFollower follower(client, std::cout, o.json_output, ::isatty(STDOUT_FILENO) == 1);
+  RunFollower follower(client, std::cout, o.json_output, ::isatty(STDOUT_FILENO) == 1, o.zone);
   return exit_status_for(follower.follow(ids));
 }
 
@@ -73,6 +75,7 @@ void add_start_command(CLI::App& app, int& exit_code) {
   verb->add_option("--note", o->note, "Free text kept with the run");
   verb->add_flag("--watch", o->watch, "Follow the runs to their end (as zout watch)");
   verb->add_flag("--json", o->json_output, "Print {\"run_ids\": [...]} (with --watch: one JSON notification per line)");
+  add_time_zone_option(*verb, o->zone);
   o->paths.add_options(*verb, true, false);
   verb->footer(
       "The plan is checked against the bench's safety maxima before anything is queued.\n"

@@ -9,7 +9,9 @@
 #include "daemon/api/control_client.h"
 #include "daemon/cli/daemon_verbs.h"
 #include "daemon/cli/exit_codes.h"
-#include "daemon/cli/si_format.h"
+#include "daemon/cli/time_zone_option.h"
+#include "daemon/text/si_text.h"
+#include "daemon/text/time_text.h"
 
 namespace zout::cli {
 namespace {
@@ -19,6 +21,7 @@ using nlohmann::json;
 struct StatusOptions {
   ClientPaths paths;
   bool json_output = false;
+  text::TimeZoneChoice zone = text::TimeZoneChoice::utc;
 };
 
 json gather_status(ControlClient& client, const std::string& socket) {
@@ -38,7 +41,7 @@ json gather_status(ControlClient& client, const std::string& socket) {
   return status;
 }
 
-void print_status(const json& s) {
+void print_status(const json& s, text::TimeZoneChoice zone) {
   const json& bench = s.at("bench");
   std::cout << fmt::format("zoutd     running, control socket {}\n", s.at("socket").get<std::string>());
   std::cout << fmt::format("station   {}  (bench file {})\n", bench.value("station", ""), bench.value("bench_file", ""));
@@ -54,8 +57,8 @@ void print_status(const json& s) {
   }
   const json& safety = bench.value("safety", json::object());
   std::cout << fmt::format("safety    output ≤ {}, load ≤ {}, drive ≤ {} peak\n",
-                           si(safety.value("max_output_volts", 0.0), "V", 3), si(safety.value("max_load_amps", 0.0), "A", 3),
-                           si(safety.value("max_source_volts_peak", 0.0), "V", 3));
+                           text::si_text(safety.value("max_output_volts", 0.0), "V", 3), text::si_text(safety.value("max_load_amps", 0.0), "A", 3),
+                           text::si_text(safety.value("max_source_volts_peak", 0.0), "V", 3));
   if (s.at("running").empty()) {
     std::cout << "running   nothing\n";
   } else {
@@ -67,7 +70,8 @@ void print_status(const json& s) {
                           progress.value("step", 0), progress.value("step_count", 0));
     }
     std::cout << fmt::format("running   run {}  {}  {}  since {}{}\n", run.value("run_id", 0), run.value("serial", ""),
-                             run.value("plan_name", ""), run.value("started_at", ""), where);
+                             run.value("plan_name", ""),
+                             text::display_time(run.value("started_at", ""), zone), where);
   }
   if (s.at("queued").empty()) {
     std::cout << "queue     empty\n";
@@ -85,6 +89,7 @@ void add_status_command(CLI::App& app, int& exit_code) {
   auto* verb = app.add_subcommand("status", "Show zoutd, its bench, the run in progress and the queue");
   options->paths.add_options(*verb, true, false);
   verb->add_flag("--json", options->json_output, "Print one JSON object instead of text");
+  add_time_zone_option(*verb, options->zone);
   verb->footer("Exit status: 0 zoutd answered, 8 zoutd is not running, 1 other failure.\nExample: zout status");
   verb->callback(verb_callback("status", exit_code, [options] {
     const std::string socket = options->paths.socket_path();
@@ -93,7 +98,7 @@ void add_status_command(CLI::App& app, int& exit_code) {
     if (options->json_output) {
       std::cout << status.dump(2) << "\n";
     } else {
-      print_status(status);
+      print_status(status, options->zone);
     }
     return exit_ok;
   }));

@@ -11,6 +11,7 @@
 #include "daemon/cli/daemon_verbs.h"
 #include "daemon/cli/exit_codes.h"
 #include "daemon/cli/run_follower.h"
+#include "daemon/cli/time_zone_option.h"
 
 namespace zout::cli {
 namespace {
@@ -21,6 +22,7 @@ struct WatchOptions {
   ClientPaths paths;
   std::vector<std::int64_t> runs;
   bool json_output = false;
+  text::TimeZoneChoice zone = text::TimeZoneChoice::utc;
 };
 
 std::vector<std::int64_t> runs_to_watch(ControlClient& client) {
@@ -44,7 +46,7 @@ int run_watch(const WatchOptions& o) {
     std::cerr << "zout watch: no runs yet; queue one with zout start PLAN --unit SERIAL\n";
     return exit_failure;
   }
-  RunFollower follower(client, std::cout, o.json_output, ::isatty(STDOUT_FILENO) == 1);
+  RunFollower follower(client, std::cout, o.json_output, ::isatty(STDOUT_FILENO) == 1, o.zone);
   return exit_status_for(follower.follow(ids));
 }
 
@@ -56,6 +58,7 @@ void add_watch_command(CLI::App& app, int& exit_code) {
   verb->add_option("run", o->runs, "Run ids (default: the run in progress and the queue behind it)")
       ->check(CLI::PositiveNumber);
   verb->add_flag("--json", o->json_output, "Print each notification as one JSON object per line");
+  add_time_zone_option(*verb, o->zone);
   o->paths.add_options(*verb, true, false);
   verb->footer(
       "Exit status: 0 every run passed, 9 a unit failed, 10 a run was aborted, interrupted or ended\n"

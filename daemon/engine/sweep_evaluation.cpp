@@ -20,20 +20,6 @@ nlohmann::json json_of(const std::optional<double>& v) { return v ? nlohmann::js
 
 }  // namespace
 
-analysis::Limits analysis_limits(const PlanLimits& l) {
-  analysis::Limits limits;
-  limits.v_oc_volts_min = l.v_oc_min_volts;
-  limits.v_oc_volts_max = l.v_oc_max_volts;
-  limits.z_out_ohms_max = l.z_out_max_ohms;
-  limits.ripple_pp_volts_max = l.ripple_pp_max_volts;
-  limits.effective_capacitance_farads_min = l.effective_capacitance_min_farads;
-  limits.diode_drop_volts_max = l.diode_drop_max_volts;
-  limits.v_oc_drift_volts_per_hour_max = l.v_oc_drift_max_volts_per_hour;
-  limits.z_out_drift_ohms_per_hour_max = l.z_out_drift_max_ohms_per_hour;
-  limits.ripple_drift_volts_per_hour_max = l.ripple_drift_max_volts_per_hour;
-  return limits;
-}
-
 SweepEvaluation evaluate_sweep(const Plan& plan, const std::vector<MeasuredPoint>& points,
                                std::vector<analysis::SoakSample>& history, double seconds_since_start) {
   std::vector<analysis::SweepPoint> sweep_points;
@@ -55,7 +41,7 @@ SweepEvaluation evaluate_sweep(const Plan& plan, const std::vector<MeasuredPoint
   parameters.operating_amps = plan.impedance.operating_amps;
   parameters.fit_max_amps = plan.impedance.fit_max_amps;
   parameters.rated_amps = plan.load.rated_amps;
-  parameters.limits = analysis_limits(plan.limits);
+  parameters.limits = plan.limits;
   const analysis::SweepResult result = analysis::analyze_sweep(sweep_points, parameters);
 
   SweepEvaluation out;

@@ -31,7 +31,4 @@ struct SweepEvaluation {
 SweepEvaluation evaluate_sweep(const Plan& plan, const std::vector<MeasuredPoint>& points,
                                std::vector<analysis::SoakSample>& history, double seconds_since_start);
 
-// The plan's limits in the analysis library's terms.
-analysis::Limits analysis_limits(const PlanLimits& limits);
-
 }  // namespace zout

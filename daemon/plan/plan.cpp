@@ -97,8 +97,8 @@ MeasureSpec read_measure(JsonReader node) {
   return measure;
 }
 
-PlanLimits read_limits(JsonReader node) {
-  PlanLimits limits;
+analysis::Limits read_limits(JsonReader node) {
+  analysis::Limits limits;
   const auto read = [&node](const char* key, std::optional<double>& out, double min, double max) {
     if (auto value = node.optional_member(key)) out = value->number(min, max);
   };

@@ -9,6 +9,8 @@
 #include <string>
 #include <vector>
 
+#include "daemon/analysis/verdict.h"
+
 namespace zout {
 
 struct DutSpec {
@@ -62,19 +64,6 @@ struct ImpedanceSpec {
   std::optional<double> operating_amps;   // default: the smallest non-zero current step
 };
 
-// Every limit is optional; an absent one is not checked.
-struct PlanLimits {
-  std::optional<double> v_oc_min_volts;
-  std::optional<double> v_oc_max_volts;
-  std::optional<double> z_out_max_ohms;
-  std::optional<double> ripple_pp_max_volts;           // at the rated load
-  std::optional<double> effective_capacitance_min_farads;
-  std::optional<double> diode_drop_max_volts;
-  std::optional<double> v_oc_drift_max_volts_per_hour;  // soak: absolute slope
-  std::optional<double> z_out_drift_max_ohms_per_hour;
-  std::optional<double> ripple_drift_max_volts_per_hour;
-};
-
 struct RepeatSpec {
   int count = 1;                    // sweeps; more than one makes a soak run
   double interval_s = 0.0;          // from the start of one sweep to the start of the next
@@ -91,7 +80,7 @@ struct Plan {
   SettleSpec settle;
   MeasureSpec measure;
   ImpedanceSpec impedance;
-  PlanLimits limits;
+  analysis::Limits limits;         // plan.limits: every one optional, an absent one not checked
   RepeatSpec repeat;
   std::string canonical_json;       // the plan as stored (compact, keys sorted)
 

@@ -11,6 +11,8 @@
 #include "daemon/analysis/drift.h"
 #include "daemon/report/gnuplot_runner.h"
 #include "daemon/report/model_comparison.h"
+#include "daemon/text/quantity_names.h"
+#include "daemon/text/si_text.h"
 
 namespace zout::report {
 namespace {
@@ -30,12 +32,41 @@ std::string quoted(const std::string& text) {
 // A text gnuplot shows as given: '_' and '^' in a serial or unit stay literal. (Per string
 // rather than `set termoption noenhanced`, which would drop the plot titles from the SVG's
 // <title> elements.)
-std::string text(const std::string& words) { return quoted(words) + " noenhanced"; }
+std::string gnuplot_text(const std::string& words) { return quoted(words) + " noenhanced"; }
 
-// A named data block, values written so they read back exactly.
-std::string data_block(const std::string& name, const std::vector<XY>& rows) {
+// One axis of a plot: the quantity, its SI unit and the one prefix its data is shown in,
+// chosen from the largest magnitude on the axis ("load current (mA)", not 0.0002 A).
+struct Axis {
+  std::string quantity;
+  std::string unit;
+  text::SiPrefix prefix;
+
+  Axis(std::string quantity_name, std::string si_unit, double largest_magnitude)
+      : quantity(std::move(quantity_name)), unit(std::move(si_unit)), prefix(text::si_prefix_for(largest_magnitude)) {}
+  // The axis label, e.g. 'load current (µA)' as gnuplot text.
+  std::string label() const { return gnuplot_text(quantity + " (" + std::string(prefix.symbol) + unit + ")"); }
+  double scaled(double si_value) const { return si_value / prefix.factor; }
+};
+
+// A plot with no unit scaling (hours since start).
+const Axis& unscaled_axis() {
+  static const Axis axis("", "", 0.0);
+  return axis;
+}
+
+// The largest |y| of every row of `blocks`.
+double largest_y(const std::vector<std::vector<XY>>& blocks) {
+  double largest = 0.0;
+  for (const auto& rows : blocks) {
+    for (const auto& r : rows) largest = std::max(largest, std::abs(r.y));
+  }
+  return largest;
+}
+
+// A named data block in the axes' units, values written so they read back exactly.
+std::string data_block(const std::string& name, const std::vector<XY>& rows, const Axis& x_axis, const Axis& y_axis) {
   std::string out = "$" + name + " << EOD\n";
-  for (const auto& r : rows) out += fmt::format("{:.17g} {:.17g}\n", r.x, r.y);
+  for (const auto& r : rows) out += fmt::format("{:.17g} {:.17g}\n", x_axis.scaled(r.x), y_axis.scaled(r.y));
   return out + "EOD\n";
 }
 
@@ -81,6 +112,7 @@ std::optional<double> operating_amps(const RunRecord& record) {
 }
 
 const char* common_settings =
+    "set encoding utf8\n"
     "set grid\n"
     "set key box\n";
 
@@ -95,7 +127,8 @@ std::string iv_plot_body(const RunRecord& record) {
   const double largest = largest_load_amps(record);
   const double span = largest > 0.0 ? largest : 1e-3;
 
-  std::string script = data_block("measured", measured);
+  // Every series in A and V first; the axes' prefixes come from all of them.
+  std::vector<std::pair<std::string, std::vector<XY>>> blocks = {{"measured", measured}};
   std::vector<std::string> plots = {"$measured using 1:2 with points pt 7 ps 1.2 lc rgb '#1f4e9a' title 'measured' noenhanced"};
 
   const store::SweepResultRecord* result = record.latest_result();
@@ -104,30 +137,38 @@ std::string iv_plot_body(const RunRecord& record) {
     const double z = *result->z_out_ohms;
     double fit_to = record.plan ? record.plan->impedance.fit_max_amps : 0.0;
     if (!(fit_to > 0.0) || fit_to > span) fit_to = span;
-    script += data_block("fit", sampled(0.0, fit_to, 2, [&](double i) { return v_oc - z * i; }));
+    blocks.emplace_back("fit", sampled(0.0, fit_to, 2, [&](double i) { return v_oc - z * i; }));
     plots.push_back(fmt::format("$fit using 1:2 with lines lw 2 lc rgb '#2a9d4b' title {}",
-                                text(fmt::format("local fit V_oc - Z_out*I (Z_out {:.4g} ohm)", z))));
+                                gnuplot_text(fmt::format("local fit {0} - {1}*I ({1} {2})", text::quantity::v_oc,
+                                                 text::quantity::z_out, text::si_text(z, "Ω", 4)))));
     const auto i_op = operating_amps(record);
     const auto v_op = i_op ? mean_volts_near(record, *i_op) : std::nullopt;
     if (i_op && v_op) {
       const double half = 0.5 * fit_to;
-      script += data_block("tangent", sampled(std::max(0.0, *i_op - half), *i_op + half, 2,
-                                              [&](double i) { return *v_op - z * (i - *i_op); }));
+      blocks.emplace_back("tangent", sampled(std::max(0.0, *i_op - half), *i_op + half, 2,
+                                             [&](double i) { return *v_op - z * (i - *i_op); }));
       plots.push_back(fmt::format("$tangent using 1:2 with lines lw 2 dt 2 lc rgb '#d1495b' title {}",
-                                  text(fmt::format("tangent at {:.4g} A, slope -Z_out", *i_op))));
+                                  gnuplot_text(fmt::format("tangent at {}, slope -{}", text::si_text(*i_op, "A", 4),
+                                                   text::quantity::z_out))));
     }
   }
   if (const auto drive = cascade_drive(record)) {
-    script += data_block("model", sampled(0.0, span, 41, [&](double i) { return model_output_volts(*drive, i); }));
+    blocks.emplace_back("model", sampled(0.0, span, 41, [&](double i) { return model_output_volts(*drive, i); }));
     plots.push_back(fmt::format(
         "$model using 1:2 with lines lw 2 dt 4 lc rgb '#8d6a9f' title {}",
-        text(fmt::format("Cockcroft-Walton model (n {}, C {:.4g} F, f {:.6g} Hz)", drive->stages,
-                           drive->capacitance_farads, drive->frequency_hz))));
+        gnuplot_text(fmt::format("Cockcroft-Walton model (n {}, C {}, f {})", drive->stages,
+                         text::si_text(drive->capacitance_farads, "F", 4), text::si_text(drive->frequency_hz, "Hz", 4)))));
   }
+  std::vector<std::vector<XY>> series;
+  for (const auto& block : blocks) series.push_back(block.second);
+  const Axis x_axis("load current", "A", span);
+  const Axis y_axis("DC output", "V", largest_y(series));
+  std::string script;
+  for (const auto& [name, rows] : blocks) script += data_block(name, rows, x_axis, y_axis);
   script += common_settings;
   script += "set key top right\n";
-  script += fmt::format("set title {}\n", text(title_of(record, "DC output against load current")));
-  script += "set xlabel 'load current (A)' noenhanced\nset ylabel 'DC output (V)' noenhanced\n";
+  script += fmt::format("set title {}\n", gnuplot_text(title_of(record, "DC output against load current")));
+  script += fmt::format("set xlabel {}\nset ylabel {}\n", x_axis.label(), y_axis.label());
   script += "plot ";
   for (std::size_t i = 0; i < plots.size(); ++i) script += (i ? ", \\\n     " : "") + plots[i];
   return script + "\n";
@@ -143,23 +184,29 @@ std::string ripple_plot_body(const RunRecord& record) {
   const double largest = largest_load_amps(record);
   const double span = largest > 0.0 ? largest : 1e-3;
 
-  std::string script;
+  std::vector<std::pair<std::string, std::vector<XY>>> blocks;
   std::vector<std::string> plots;
   if (!measured.empty()) {
-    script += data_block("measured", measured);
+    blocks.emplace_back("measured", measured);
     plots.push_back("$measured using 1:2 with points pt 7 ps 1.2 lc rgb '#1f4e9a' title 'measured ripple pp' noenhanced");
   }
   if (drive) {
-    script += data_block("model", sampled(0.0, span, 41, [&](double i) {
-                           return analysis::predicted_ripple_pp_volts(drive->stages, i, drive->frequency_hz,
-                                                                      drive->capacitance_farads);
-                         }));
+    blocks.emplace_back("model", sampled(0.0, span, 41, [&](double i) {
+                          return analysis::predicted_ripple_pp_volts(drive->stages, i, drive->frequency_hz,
+                                                                     drive->capacitance_farads);
+                        }));
     plots.push_back("$model using 1:2 with lines lw 2 dt 4 lc rgb '#8d6a9f' title 'Cockcroft-Walton model ripple pp' noenhanced");
   }
+  std::vector<std::vector<XY>> series;
+  for (const auto& block : blocks) series.push_back(block.second);
+  const Axis x_axis("load current", "A", span);
+  const Axis y_axis("ripple peak-to-peak", "V", largest_y(series));
+  std::string script;
+  for (const auto& [name, rows] : blocks) script += data_block(name, rows, x_axis, y_axis);
   script += common_settings;
   script += "set key top left\n";
-  script += fmt::format("set title {}\n", text(title_of(record, "ripple against load current")));
-  script += "set xlabel 'load current (A)' noenhanced\nset ylabel 'ripple peak-to-peak (V)' noenhanced\n";
+  script += fmt::format("set title {}\n", gnuplot_text(title_of(record, "ripple against load current")));
+  script += fmt::format("set xlabel {}\nset ylabel {}\n", x_axis.label(), y_axis.label());
   script += "plot ";
   for (std::size_t i = 0; i < plots.size(); ++i) script += (i ? ", \\\n     " : "") + plots[i];
   return script + "\n";
@@ -169,19 +216,21 @@ std::string soak_plot_body(const RunRecord& record) {
   if (!record.is_soak()) return "";
   struct Panel {
     std::string name;
-    std::string label;
+    std::string quantity;
+    std::string unit;
     std::optional<double> store::SweepResultRecord::*field;
   };
-  const Panel panels[] = {{"v_oc", "V_oc (V)", &store::SweepResultRecord::v_oc_volts},
-                          {"z_out", "Z_out (ohm)", &store::SweepResultRecord::z_out_ohms},
-                          {"ripple", "ripple pp at rated load (V)", &store::SweepResultRecord::ripple_rated_pp_volts}};
+  const Panel panels[] = {{"v_oc", text::quantity::v_oc, "V", &store::SweepResultRecord::v_oc_volts},
+                          {"z_out", text::quantity::z_out, "Ω", &store::SweepResultRecord::z_out_ohms},
+                          {"ripple", std::string(text::quantity::ripple_pp) + " at rated load", "V",
+                           &store::SweepResultRecord::ripple_rated_pp_volts}};
   const std::size_t baseline = record.plan ? static_cast<std::size_t>(record.plan->repeat.baseline_sweeps) : 5;
   const double band_sigma = record.plan ? record.plan->repeat.band_sigma : 3.0;
 
   std::string data;
   std::vector<std::string> panel_plots;
   for (const auto& panel : panels) {
-    std::vector<XY> series;
+    std::vector<XY> series;  // hours, SI unit
     std::vector<double> values;
     for (const auto& sweep : record.sweeps) {
       if (sweep.result && (*sweep.result).*(panel.field)) {
@@ -190,22 +239,26 @@ std::string soak_plot_body(const RunRecord& record) {
       }
     }
     if (series.empty()) continue;
-    data += data_block(panel.name, series);
-    std::string plot = fmt::format("set ylabel {}\nplot ${} using 1:2 with linespoints pt 7 ps 0.8 lc rgb '#1f4e9a' title 'measured' noenhanced",
-                                   text(panel.label), panel.name);
     const auto band = analysis::control_band(values, baseline, band_sigma);
+    std::vector<std::vector<XY>> all = {series};
+    if (band) all.push_back({{0.0, band->lower}, {0.0, band->upper}});
+    const Axis y_axis(panel.quantity, panel.unit, largest_y(all));
+    const Axis& hours = unscaled_axis();
+    data += data_block(panel.name, series, hours, y_axis);
+    std::string plot = fmt::format("set ylabel {}\nplot ${} using 1:2 with linespoints pt 7 ps 0.8 lc rgb '#1f4e9a' title 'measured' noenhanced",
+                                   y_axis.label(), panel.name);
     if (band) {
       const double from = series.front().x;
       const double to = std::max(series.back().x, from + 1e-9);
       const auto flat = [&](double level) { return std::vector<XY>{{from, level}, {to, level}}; };
-      data += data_block(panel.name + "_mean", flat(band->mean));
-      data += data_block(panel.name + "_lower", flat(band->lower));
-      data += data_block(panel.name + "_upper", flat(band->upper));
+      data += data_block(panel.name + "_mean", flat(band->mean), hours, y_axis);
+      data += data_block(panel.name + "_lower", flat(band->lower), hours, y_axis);
+      data += data_block(panel.name + "_upper", flat(band->upper), hours, y_axis);
       plot += fmt::format(
           ", ${0}_mean using 1:2 with lines lw 1 lc rgb '#555555' title 'baseline mean' noenhanced, "
           "${0}_lower using 1:2 with lines lw 1 dt 2 lc rgb '#d1495b' title {1}, "
           "${0}_upper using 1:2 with lines lw 1 dt 2 lc rgb '#d1495b' notitle",
-          panel.name, text(fmt::format("control band (mean +/- {:g} sigma of first {} sweeps)", band_sigma,
+          panel.name, gnuplot_text(fmt::format("control band (mean +/- {:g} sigma of first {} sweeps)", band_sigma,
                                          band->baseline_points)));
     }
     panel_plots.push_back(plot + "\n");
@@ -213,7 +266,7 @@ std::string soak_plot_body(const RunRecord& record) {
   if (panel_plots.empty()) return "";
   std::string script = data + common_settings + "set key below horizontal nobox font ',9'\nset xlabel 'time since start (h)' noenhanced\n";
   script += fmt::format("set multiplot layout {},1 title {}\n", panel_plots.size(),
-                        text(title_of(record, "soak trend")));
+                        gnuplot_text(title_of(record, "soak trend")));
   for (const auto& plot : panel_plots) script += plot;
   return script + "unset multiplot\n";
 }

@@ -10,7 +10,10 @@
 //   run-<id>-soak    soak runs only: V_oc, Z_out and ripple pp at the rated load against hours,
 //                    each with its control band (mean ± band_sigma·σ of the plan's first
 //                    baseline_sweeps sweeps; drift.h control_band), one panel each
-// A plot with nothing to draw is skipped, with the reason.
+// Each axis shows its data in one SI prefix chosen from the axis's largest magnitude
+// (daemon/text si_prefix_for): the data written to gnuplot is scaled to it and the label says
+// so ("load current (mA)", "Z_out (kΩ)"). A plot with nothing to draw is skipped, with the
+// reason.
 
 #include <filesystem>
 #include <string>
@@ -31,7 +34,7 @@ PlotFiles write_run_plots(const RunRecord& record, const std::filesystem::path& 
                           const std::string& gnuplot_command = "gnuplot");
 
 // The gnuplot script of each plot without its terminal and output lines, for inspection:
-// data blocks first, then the plot commands. Empty when the plot has nothing to draw.
+// data blocks (in the axes' prefixed units) first, then the plot commands. Empty when the plot has nothing to draw.
 std::string iv_plot_body(const RunRecord& record);
 std::string ripple_plot_body(const RunRecord& record);
 std::string soak_plot_body(const RunRecord& record);

@@ -8,18 +8,29 @@
 #include "daemon/report/model_comparison.h"
 #include "daemon/store/record_json.h"
 #include "daemon/store/sweep_figures.h"
+#include "daemon/text/missing_value.h"
+#include "daemon/text/quantity_names.h"
+#include "daemon/text/si_text.h"
 
 namespace zout::report {
 namespace {
 
-std::string number(const std::optional<double>& value) { return value ? fmt::format("{:.6g}", *value) : "-"; }
+// Significant digits of every number in the text report.
+constexpr int digits = 4;
 
-// "value ± stderr unit", "value unit", or "-".
+// "value unit" with its SI prefix, or the missing-value mark.
+std::string number(const std::optional<double>& value, const char* unit) { return text::si_text(value, unit, digits); }
+
+// "value ± stderr" both with prefix and unit, "value unit", or the missing-value mark.
 std::string figure(const std::optional<double>& value, const std::optional<double>& stderr_value, const char* unit) {
-  if (!value) return "-";
-  if (stderr_value) return fmt::format("{:.6g} ± {:.6g} {}", *value, *stderr_value, unit);
-  return fmt::format("{:.6g} {}", *value, unit);
+  return text::si_with_uncertainty(value, stderr_value, unit, digits);
 }
+
+// Text a person typed (operator, note), or the missing-value mark when there is none.
+std::string or_mark(const std::string& words) { return words.empty() ? std::string(text::missing_value_mark) : words; }
+
+// The unit symbol of a model comparison row (whose JSON unit is plain ASCII).
+std::string unit_symbol(const std::string& json_unit) { return json_unit == "ohm" ? "Ω" : json_unit; }
 
 nlohmann::json json_of(const std::optional<double>& v) { return v ? nlohmann::json(*v) : nlohmann::json(nullptr); }
 
@@ -58,12 +69,9 @@ std::string table(const std::vector<std::vector<std::string>>& rows, const std::
 
 bool is_notable(const store::StoredEvent& e) { return e.event.level != store::EventLevel::info; }
 
-std::string time_text(const std::optional<store::TimePoint>& time) { return time ? store::format_utc(*time) : "-"; }
-
 std::string set_load_text(const store::PointRecord& p) {
-  if (p.set_load_amps) return fmt::format("{:.6g} A", *p.set_load_amps);
-  if (p.set_load_ohms) return fmt::format("{:.6g} ohm", *p.set_load_ohms);
-  return "-";
+  if (p.set_load_amps) return number(p.set_load_amps, "A");
+  return number(p.set_load_ohms, "Ω");
 }
 
 }  // namespace
@@ -73,22 +81,26 @@ std::optional<double> run_duration_s(const store::RunSummary& header) {
   return std::chrono::duration<double>(*header.ended_at - *header.started_at).count();
 }
 
-std::string render_text_report(const RunRecord& record) {
+std::string render_text_report(const RunRecord& record, text::TimeZoneChoice zone) {
+  namespace quantity = text::quantity;
   const store::RunSummary& h = record.header;
+  const auto shown_time = [zone](const std::optional<store::TimePoint>& time) {
+    return time ? text::display_time(*time, zone) : std::string(text::missing_value_mark);
+  };
   std::string out = fmt::format("Run {}: unit {}{}{}\n", h.run_id, h.serial, h.model.empty() ? "" : " (" + h.model + ")",
                                 h.slot ? fmt::format(", slot {}", *h.slot) : "");
   const auto duration = run_duration_s(h);
   out += table({{"plan", h.plan_name},
                 {"kind", std::string(store::to_string(h.kind))},
                 {"station", h.station},
-                {"operator", h.operator_name.empty() ? "-" : h.operator_name},
+                {"operator", or_mark(h.operator_name)},
                 {"state", std::string(store::to_string(h.state))},
-                {"queued", store::format_utc(h.queued_at)},
-                {"started", time_text(h.started_at)},
-                {"ended", time_text(h.ended_at)},
-                {"duration", duration ? fmt::format("{:.3f} s", *duration) : "-"},
+                {"queued", shown_time(h.queued_at)},
+                {"started", shown_time(h.started_at)},
+                {"ended", shown_time(h.ended_at)},
+                {"duration", duration ? text::clock_time(*duration) : std::string(text::missing_value_mark)},
                 {"sweeps", std::to_string(h.sweeps)},
-                {"note", h.note.empty() ? "-" : h.note}},
+                {"note", or_mark(h.note)}},
                "  ");
 
   const store::SweepResultRecord* r = record.latest_result();
@@ -96,51 +108,55 @@ std::string render_text_report(const RunRecord& record) {
   if (!r) {
     out += ": none (no sweep was analysed)\n";
   } else {
-    out += fmt::format(" (sweep {}, computed {}; ± one standard error)\n", r->sweep, store::format_utc(r->computed_at));
-    out += table({{"V_oc", figure(r->v_oc_volts, std::nullopt, "V")},
-                  {"Z_out", figure(r->z_out_ohms, r->z_out_stderr_ohms, "ohm") + fmt::format(" ({} fit points)", r->fit_points)},
-                  {"chord Z to rated load", figure(r->z_chord_ohms, std::nullopt, "ohm")},
-                  {"cascade R", figure(r->cascade_r_ohms, r->cascade_r_stderr_ohms, "ohm")},
-                  {"effective C", figure(r->effective_capacitance_farads, std::nullopt, "F")},
-                  {"diode drop", figure(r->diode_drop_volts, std::nullopt, "V")},
-                  {"rated load", figure(r->rated_load_amps, std::nullopt, "A")},
-                  {"ripple pp at rated load", figure(r->ripple_rated_pp_volts, std::nullopt, "V")},
-                  {"ripple rms at rated load", figure(r->ripple_rated_rms_volts, std::nullopt, "V")}},
+    out += fmt::format(" (sweep {}, computed {}; ± one standard error)\n", r->sweep, shown_time(r->computed_at));
+    out += table({{quantity::v_oc, number(r->v_oc_volts, "V")},
+                  {quantity::z_out, figure(r->z_out_ohms, r->z_out_stderr_ohms, "Ω") +
+                                        fmt::format(" ({} fit points)", r->fit_points)},
+                  {"chord Z to rated load", number(r->z_chord_ohms, "Ω")},
+                  {"cascade R", figure(r->cascade_r_ohms, r->cascade_r_stderr_ohms, "Ω")},
+                  {quantity::effective_capacitance, number(r->effective_capacitance_farads, "F")},
+                  {quantity::diode_drop, number(r->diode_drop_volts, "V")},
+                  {"rated load", number(r->rated_load_amps, "A")},
+                  {std::string(quantity::ripple_pp) + " at rated load", number(r->ripple_rated_pp_volts, "V")},
+                  {"ripple rms at rated load", number(r->ripple_rated_rms_volts, "V")}},
                  "  ");
   }
 
   out += "\nCockcroft–Walton model";
   if (const auto drive = cascade_drive(record)) {
-    out += fmt::format(" (n = {}, C = {:.6g} F, f = {:.6g} Hz, V_pk = {:.6g} V)\n", drive->stages,
-                       drive->capacitance_farads, drive->frequency_hz, drive->amplitude_volts_peak);
+    out += fmt::format(" (n = {}, C = {}, f = {}, V_pk = {})\n", drive->stages,
+                       text::si_text(drive->capacitance_farads, "F", digits), text::si_text(drive->frequency_hz, "Hz", digits),
+                       text::si_text(drive->amplitude_volts_peak, "V", digits));
   } else {
     out += fmt::format(" (as stored with the result; the plan does not load: {})\n", record.plan_error);
   }
   std::vector<std::vector<std::string>> comparison = {{"quantity", "measured", "model", "difference"}};
   for (const auto& row : compare_with_model(record)) {
-    comparison.push_back({row.quantity, row.measured ? number(row.measured) + " " + row.unit : "-",
-                          row.model ? number(row.model) + " " + row.unit : "-",
-                          row.difference_percent ? fmt::format("{:+.2f} %", *row.difference_percent) : "-"});
+    const std::string unit = unit_symbol(row.unit);
+    comparison.push_back({row.quantity, number(row.measured, unit.c_str()), number(row.model, unit.c_str()),
+                          row.difference_percent ? fmt::format("{:+.2f} %", *row.difference_percent)
+                                                 : std::string(text::missing_value_mark)});
   }
   out += table(comparison, "  ", Align::numbers_right);
 
   out += fmt::format("\nPoints ({})\n", record.points.size());
   std::vector<std::vector<std::string>> points = {
-      {"sweep", "step", "set load", "measured A", "DC V", "ripple pp V", "settle s", "settled"}};
+      {"sweep", "step", "set load", "measured load", "DC output", "ripple pp", "settled in", "settled"}};
   for (const auto& stored : record.points) {
     const store::PointRecord& p = stored.point;
     points.push_back({std::to_string(stored.sweep), std::to_string(stored.step), set_load_text(p),
-                      number(p.measured_load_amps), number(p.dc_volts), number(p.ripple_pp_volts),
-                      fmt::format("{:.3f}", p.settle_s), p.settled ? "yes" : "NO"});
+                      number(p.measured_load_amps, "A"), number(p.dc_volts, "V"), number(p.ripple_pp_volts, "V"),
+                      number(p.settle_s, "s"), p.settled ? "yes" : "NO"});
   }
   out += table(points, "  ", Align::numbers_right);
 
   if (record.is_soak() && r) {
     out += fmt::format("\nDrift over {} sweeps (least-squares slope per hour ± one standard error)\n",
                        record.sweep_results().size());
-    out += table({{"V_oc", figure(r->v_oc_drift_volts_per_hour, r->v_oc_drift_stderr_volts_per_hour, "V/h")},
-                  {"Z_out", figure(r->z_out_drift_ohms_per_hour, r->z_out_drift_stderr_ohms_per_hour, "ohm/h")},
-                  {"ripple pp", figure(r->ripple_drift_volts_per_hour, r->ripple_drift_stderr_volts_per_hour, "V/h")}},
+    out += table({{quantity::v_oc_drift, figure(r->v_oc_drift_volts_per_hour, r->v_oc_drift_stderr_volts_per_hour, "V/h")},
+                  {quantity::z_out_drift, figure(r->z_out_drift_ohms_per_hour, r->z_out_drift_stderr_ohms_per_hour, "Ω/h")},
+                  {quantity::ripple_drift,
+                   figure(r->ripple_drift_volts_per_hour, r->ripple_drift_stderr_volts_per_hour, "V/h")}},
                  "  ");
   }
 
@@ -157,7 +173,7 @@ std::string render_text_report(const RunRecord& record) {
   std::vector<std::vector<std::string>> events;
   for (const auto& e : record.events) {
     if (is_notable(e)) {
-      events.push_back({store::format_utc(e.event.at), std::string(store::to_string(e.event.level)), e.event.source,
+      events.push_back({shown_time(e.event.at), std::string(store::to_string(e.event.level)), e.event.source,
                         e.event.code, e.event.message});
     }
   }

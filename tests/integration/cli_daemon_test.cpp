@@ -81,7 +81,7 @@ TEST_CASE("zout start queues units; zout watch follows them to the verdict with 
   CHECK(watched.exit_code == 9);
   CHECK_THAT(watched.out, Contains(fmt::format("run {} IT-0001: passed", ids[0])));
   CHECK_THAT(watched.out, Contains(fmt::format("run {} IT-0002: failed", ids[1])));
-  CHECK_THAT(watched.out, Contains("effective_capacitance"));
+  CHECK_THAT(watched.out, Contains("reason: effective C ") && Contains(" nF < 40 nF min"));
   // One line per point (7 steps each, unless a run had already gone by when watch subscribed),
   // with the progress that a pipe gets instead of a redrawn bar.
   CHECK_THAT(watched.out, Contains("sweep 1/1 step  7/7"));

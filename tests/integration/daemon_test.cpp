@@ -28,10 +28,10 @@ TEST_CASE("a panel batch runs unattended; faulty units fail for their reason; sq
   REQUIRE(state(ids[1]) == "failed");
   const std::string weak = bench.db_value("SELECT verdict_reasons_json FROM run_summary WHERE run_id = " +
                                           std::to_string(ids[1]));
-  REQUIRE_THAT(weak, Catch::Contains("effective_capacitance_farads"));
+  REQUIRE_THAT(weak, Catch::Contains("effective C ") && Catch::Contains(" nF < 40 nF min"));
   const std::string leaky = bench.db_value("SELECT verdict_reasons_json FROM run_summary WHERE run_id = " +
                                            std::to_string(ids[2]));
-  REQUIRE_THAT(leaky, Catch::Contains("v_oc_volts"));
+  REQUIRE_THAT(leaky, Catch::Contains("V_oc ") && Catch::Contains(" V < 386 V min"));
 
   // Every point and its readings are in the store: 7 steps per unit, each with readings.
   REQUIRE(bench.db_value("SELECT count(*) FROM point").get<int>() == 21);

@@ -30,7 +30,7 @@ TEST_CASE("scripts/demo --short runs the main job end to end and cleans up", "[d
   CHECK_THAT(r.out, Contains("BB5-2611-0001") && Contains("BB5-2611-0004"));
   CHECK_THAT(r.out, Contains("run 1 BB5-2611-0001: passed"));
   CHECK_THAT(r.out, Contains("run 2 BB5-2611-0004: failed"));
-  CHECK_THAT(r.out, Contains("effective_capacitance"));
+  CHECK_THAT(r.out, Contains("effective C ") && Contains(" nF < 21.5 nF min"));
   // Live progress lines and the soak's drift figures.
   CHECK_THAT(r.out, Contains("sweep 1/1 step 11/11"));
   CHECK_THAT(r.out, Contains("sweep 4/4"));

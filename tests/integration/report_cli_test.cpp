@@ -145,7 +145,8 @@ TEST_CASE("zout report prints a run's report and exits 0", "[report]") {
   REQUIRE(r.exit_code == 0);
   CHECK(r.err.empty());
   CHECK(r.out.find("unit CW5-0042 (CW5), slot 3") != std::string::npos);
-  CHECK(r.out.find("119250 ± 1530 ohm") != std::string::npos);
+  CHECK(r.out.find("119.3 kΩ ± 1.5 kΩ") != std::string::npos);
+  CHECK(r.out.find("started   2026-12-01T21:15:14Z\n") != std::string::npos);
   CHECK(r.out.find("Verdict: FAIL") != std::string::npos);
 
   const auto json = zout_cli({"report", std::to_string(db.soak_run), "--json", "--db", db.file.string()});
@@ -153,6 +154,41 @@ TEST_CASE("zout report prints a run's report and exits 0", "[report]") {
   const auto document = nlohmann::json::parse(json.out);
   CHECK(document["run"]["serial"] == "CW5-0043");
   CHECK(document["drift"]["v_oc_volts_per_hour"].get<double>() == -0.5);
+}
+
+TEST_CASE("zout runs and zout report show times in UTC with Z, or local time with its offset", "[report]") {
+  TempDir dir("zout-report-cli");
+  const ReportDatabase db = make_report_database(dir.path);
+  const auto utc = zout_cli({"runs", "--db", db.file.string()});
+  INFO(utc.out << utc.err);
+  REQUIRE(utc.exit_code == 0);
+  CHECK(utc.out.find("2026-12-01T21:15:14Z") != std::string::npos);  // the production run's start
+  CHECK(utc.out.find("2026-12-01T21:16:54Z") != std::string::npos);  // the soak's, 100 s later
+  CHECK(utc.out.find("1:03") != std::string::npos);                  // the production run took 63 s
+
+  // The children inherit TZ: 3 h 30 min behind UTC, no summer time.
+  const char* saved = std::getenv("TZ");
+  const std::string old_zone = saved ? saved : "";
+  ::setenv("TZ", "NST+3:30", 1);
+  const auto local_runs = zout_cli({"runs", "--local-time", "--db", db.file.string()});
+  const auto local_report =
+      zout_cli({"report", std::to_string(db.production_run), "--local-time", "--db", db.file.string()});
+  const auto as_json = zout_cli({"runs", "--local-time", "--json", "--db", db.file.string()});
+  if (saved) {
+    ::setenv("TZ", old_zone.c_str(), 1);
+  } else {
+    ::unsetenv("TZ");
+  }
+  REQUIRE(local_runs.exit_code == 0);
+  CHECK(local_runs.out.find("2026-12-01T17:45:14-03:30") != std::string::npos);
+  CHECK(local_runs.out.find("21:15:14") == std::string::npos);
+  REQUIRE(local_report.exit_code == 0);
+  CHECK(local_report.out.find("started   2026-12-01T17:45:14-03:30\n") != std::string::npos);
+  // JSON keeps the stored UTC text whatever the option.
+  REQUIRE(as_json.exit_code == 0);
+  const auto rows = nlohmann::json::parse(as_json.out);
+  REQUIRE(rows.size() == 2);
+  CHECK(rows[1]["started_at"] == "2026-12-01T21:15:14.123Z");
 }
 
 TEST_CASE("zout report and export name a missing run or database and exit 1", "[report]") {
@@ -201,8 +237,12 @@ TEST_CASE("zout report --plot writes SVG and PNG plots whose markers are the sto
 
   const std::string svg = file_bytes(plots / ("run-" + id + "-iv.svg"));
   CHECK(svg.find("CW5-0042, run " + id) != std::string::npos);
-  CHECK(svg.find("load current (A)") != std::string::npos);
+  // One prefix per axis from its data: the largest load current is 1.00033 mA, the outputs
+  // are 286 V to 400 V (the model at no load).
+  CHECK(svg.find("load current (mA)") != std::string::npos);
   CHECK(svg.find("DC output (V)") != std::string::npos);
+  CHECK(svg.find("local fit V_oc - Z_out*I (Z_out 119.3 kΩ)") != std::string::npos);
+  const double amps_on_axis = 1e3;  // mA
   const SvgAxes axes = svg_axes(svg);
   const double x_span = axes.axis_xmax - axes.axis_xmin;
   const double y_span = axes.axis_ymax - axes.axis_ymin;
@@ -214,7 +254,7 @@ TEST_CASE("zout report --plot writes SVG and PNG plots whose markers are the sto
   for (const auto& point : stored) {
     INFO("stored point " << point[0] << " A, " << point[1] << " V");
     const bool found = std::any_of(markers.begin(), markers.end(), [&](const auto& m) {
-      return std::abs(m.first - point[0]) <= 0.01 * x_span && std::abs(m.second - point[1]) <= 0.01 * y_span;
+      return std::abs(m.first - point[0] * amps_on_axis) <= 0.01 * x_span && std::abs(m.second - point[1]) <= 0.01 * y_span;
     });
     CHECK(found);
   }
@@ -222,11 +262,13 @@ TEST_CASE("zout report --plot writes SVG and PNG plots whose markers are the sto
   const std::string ripple_svg = file_bytes(plots / ("run-" + id + "-ripple.svg"));
   const auto ripple_markers = svg_markers(ripple_svg, "measured ripple pp");
   const auto ripple_axes = svg_axes(ripple_svg);
+  CHECK(ripple_svg.find("load current (mA)") != std::string::npos);
+  CHECK(ripple_svg.find("ripple peak-to-peak (V)") != std::string::npos);  // up to 16.6 V
   const auto ripple = select_numbers(db.file, "SELECT load_amps, ripple_pp_volts FROM iv_curve WHERE run_id = " + id);
   CHECK(ripple_markers.size() == ripple.size());
   for (const auto& point : ripple) {
     const bool found = std::any_of(ripple_markers.begin(), ripple_markers.end(), [&](const auto& m) {
-      return std::abs(m.first - point[0]) <= 0.01 * (ripple_axes.axis_xmax - ripple_axes.axis_xmin) &&
+      return std::abs(m.first - point[0] * amps_on_axis) <= 0.01 * (ripple_axes.axis_xmax - ripple_axes.axis_xmin) &&
              std::abs(m.second - point[1]) <= 0.01 * (ripple_axes.axis_ymax - ripple_axes.axis_ymin);
     });
     CHECK(found);
@@ -245,6 +287,8 @@ TEST_CASE("a soak run also gets its trend plot; a missing gnuplot is named", "[r
   CHECK(fs::file_size(dir.path / ("run-" + id + "-soak.png")) > 1000);
   const std::string svg = file_bytes(soak_svg);
   CHECK(svg.find("time since start (h)") != std::string::npos);
+  CHECK(svg.find("Z_out (kΩ)") != std::string::npos);  // 118 kΩ and up
+  CHECK(svg.find("V_oc (V)") != std::string::npos);
   CHECK(svg.find("control band (mean +/- 3 sigma of first 3 sweeps)") != std::string::npos);
 
   // With no gnuplot on PATH the report is still printed, and the failure names the command.

@@ -103,12 +103,12 @@ TEST_CASE("a sweep yields every figure, consistent with the parts", "[analysis]"
 
 TEST_CASE("the sweep verdict checks the plan's limits", "[analysis]") {
   SweepParameters p = parameters();
-  p.limits.v_oc_volts_min = 13.5;
-  p.limits.ripple_pp_volts_max = 0.5;
-  p.limits.diode_drop_volts_max = 0.2;
+  p.limits.v_oc_min_volts = 13.5;
+  p.limits.ripple_pp_max_volts = 0.5;
+  p.limits.diode_drop_max_volts = 0.2;
   const SweepResult r = analyze_sweep(sweep(), p);
   CHECK_FALSE(r.verdict.passed);
-  CHECK(r.verdict.failure_summary() == "ripple_pp_volts 0.8 > max 0.5");
+  CHECK(r.verdict.failure_summary() == "ripple pp 800 mV > 500 mV max");
 }
 
 TEST_CASE("a sweep with no zero step and a rated load off the steps", "[analysis]") {
@@ -116,19 +116,19 @@ TEST_CASE("a sweep with no zero step and a rated load off the steps", "[analysis
   points.erase(points.begin());
   SweepParameters p = parameters();
   p.rated_amps = 300e-6;
-  p.limits.ripple_pp_volts_max = 1.0;
+  p.limits.ripple_pp_max_volts = 1.0;
   const SweepResult r = analyze_sweep(points, p);
   REQUIRE(r.v_oc);
   CHECK_FALSE(r.v_oc->from_zero_current_points);
   REQUIRE_FALSE(r.ripple_pp_volts_at_rated);
   CHECK_THAT(r.ripple_pp_volts_at_rated.reason(), Catch::Contains("no step within 5% of the rated load 0.0003 A"));
   CHECK_FALSE(r.verdict.passed);
-  CHECK_THAT(r.verdict.failure_summary(), Catch::Contains("ripple_pp_volts not computed"));
+  CHECK_THAT(r.verdict.failure_summary(), Catch::Contains("ripple pp not computed"));
 }
 
 TEST_CASE("an empty sweep gives reasons, not values", "[analysis]") {
   SweepParameters p = parameters();
-  p.limits.z_out_ohms_max = 1e5;
+  p.limits.z_out_max_ohms = 1e5;
   const SweepResult r = analyze_sweep(std::vector<SweepPoint>{}, p);
   CHECK_FALSE(r.v_oc);
   CHECK_FALSE(r.z_out);

@@ -1,5 +1,5 @@
-// The client's small text helpers: engineering-prefix numbers, clock times, and the unit
-// arguments and panel files of `zout start`.
+// The unit arguments and panel files of `zout start`. (Numbers and times for people are
+// daemon/text's: tests/unit/text_test.cpp.)
 #include <catch2/catch.hpp>
 
 #include <unistd.h>
@@ -7,37 +7,12 @@
 #include <filesystem>
 #include <fstream>
 
-#include "daemon/cli/si_format.h"
 #include "daemon/cli/unit_list.h"
 #include "daemon/plan/config_error.h"
 
 using namespace zout;
 using namespace zout::cli;
 using Catch::Contains;
-
-TEST_CASE("si() writes values with an engineering prefix and fixed significant digits", "[cli-text]") {
-  CHECK(si(20e-6, "A", 3) == "20.0 µA");
-  CHECK(si(2e-6, "A", 3) == "2.00 µA");
-  CHECK(si(0.001, "A", 3) == "1.00 mA");
-  CHECK(si(384.923, "V", 5) == "384.92 V");
-  CHECK(si(194600.0, "Ω", 3) == "195 kΩ");
-  CHECK(si(47e-9, "F", 3) == "47.0 nF");
-  CHECK(si(-0.25, "V", 3) == "-250 mV");
-  CHECK(si(0.0, "A") == "0 A");
-  CHECK(si(std::nan(""), "V") == "—");
-  CHECK(si(std::optional<double>(), "V") == "—");
-  // Rounding that carries to 1000 moves up a prefix rather than printing "1000 mV".
-  CHECK(si(0.99996, "V", 4) == "1.000 V");
-  CHECK(si(999.96e3, "Ω", 4) == "1.000 MΩ");
-}
-
-TEST_CASE("clock_time() writes m:ss under an hour and h:mm:ss above", "[cli-text]") {
-  CHECK(clock_time(0.0) == "0:00");
-  CHECK(clock_time(75.4) == "1:15");
-  CHECK(clock_time(3599.4) == "59:59");
-  CHECK(clock_time(3725.0) == "1:02:05");
-  CHECK(clock_time(-1.0) == "—");
-}
 
 TEST_CASE("a unit argument is SERIAL or SERIAL@SLOT; mistakes are named", "[cli-text]") {
   CHECK(parse_unit_argument("BB5-2611-0001").serial == "BB5-2611-0001");

@@ -6,6 +6,8 @@
 #include <fmt/format.h>
 
 #include <cmath>
+#include <cstdlib>
+#include <ctime>
 
 #include "tests/support/temp_dir.h"
 #include "daemon/report/model_comparison.h"
@@ -13,6 +15,8 @@
 #include "daemon/report/run_record.h"
 #include "daemon/report/run_report.h"
 #include "daemon/store/store_error.h"
+#include "daemon/text/si_text.h"
+#include "daemon/text/time_text.h"
 #include "tests/support/report_database.h"
 
 using namespace zout;
@@ -151,35 +155,72 @@ TEST_CASE("a missing run or database is a clear error naming the file", "[report
 TEST_CASE("the text report shows the figures, the model comparison, points, verdict and events", "[report]") {
   TempDir dir("zout-report-text");
   const ReportDatabase db = make_report_database(dir.path);
-  const std::string text = report::render_text_report(report::load_run_record(db.file, db.production_run));
+  const std::string text =
+      report::render_text_report(report::load_run_record(db.file, db.production_run), text::TimeZoneChoice::utc);
   INFO(text);
   CHECK(contains(text, fmt::format("Run {}: unit CW5-0042 (CW5), slot 3", db.production_run)));
   CHECK(contains(text, "cw5-production"));
   CHECK(contains(text, "line-2"));
-  CHECK(contains(text, "63.000 s"));
-  CHECK(contains(text, "392.4 V"));
-  CHECK(contains(text, "119250 ± 1530 ohm (4 fit points)"));
-  CHECK(contains(text, "104200 ± 870 ohm"));
-  CHECK(contains(text, "4.559e-08 F"));
-  CHECK(contains(text, "0.76 V"));
-  CHECK(contains(text, "16.6 V"));
+  CHECK(contains(text, "duration  1:03\n"));  // 63 s, as zout runs shows it
+  // Figures with SI prefixes and units on both sides of the ±, 4 significant digits.
+  CHECK(contains(text, "V_oc                      392.4 V\n"));
+  CHECK(contains(text, "119.3 kΩ ± 1.5 kΩ (4 fit points)"));
+  CHECK(contains(text, "104.2 kΩ ± 870 Ω"));
+  CHECK(contains(text, "chord Z to rated load     105.8 kΩ"));
+  CHECK(contains(text, "effective C               45.59 nF"));
+  CHECK(contains(text, "diode drop                760.0 mV"));
+  CHECK(contains(text, "rated load                1.000 mA"));
+  CHECK(contains(text, "ripple pp at rated load   16.60 V"));
+  const std::string before_verdict = text.substr(0, text.find("Verdict:"));  // the reasons are as stored
+  CHECK(!contains(before_verdict, "119250"));
+  CHECK(!contains(before_verdict, "ohm"));
   // The model, from the book's formulas: 400 V, 101064 Ω, 101.064 V and 15.9574 V at 1 mA.
-  CHECK(contains(text, fmt::format("{:.6g} V", book_ideal_volts())));
-  CHECK(contains(text, fmt::format("{:.6g} ohm", book_source_ohms())));
-  CHECK(contains(text, fmt::format("{:.6g} V", book_sag_volts(1e-3))));
-  CHECK(contains(text, fmt::format("{:.6g} V", book_ripple_pp_volts(1e-3))));
-  CHECK(contains(text, fmt::format("{:.6g} V", 392.4 - 286.5)));  // measured droop
+  CHECK(contains(text, "(n = 5, C = 47.00 nF, f = 20.00 kHz, V_pk = 40.00 V)"));
+  CHECK(contains(text, text::si_text(book_ideal_volts(), "V", 4)));
+  CHECK(contains(text, text::si_text(book_source_ohms(), "Ω", 4)));
+  CHECK(contains(text, "101.1 kΩ"));  // 95/(20 kHz · 47 nF) = 101 063.8 Ω
+  CHECK(contains(text, text::si_text(book_sag_volts(1e-3), "V", 4)));
+  CHECK(contains(text, text::si_text(book_ripple_pp_volts(1e-3), "V", 4)));
+  CHECK(contains(text, "15.96 V"));
+  CHECK(contains(text, text::si_text(392.4 - 286.5, "V", 4)));  // measured droop
   CHECK(contains(text, fmt::format("{:+.2f} %", 100.0 * (392.4 - 400.0) / 400.0)));
   CHECK(contains(text, "Verdict: FAIL"));
-  CHECK(contains(text, "  - z_out_ohms 119250 is above z_out_max_ohms 115000"));
+  CHECK(contains(text, "  - z_out_ohms 119250 is above z_out_max_ohms 115000"));  // as stored
   CHECK(contains(text, "Warnings and errors (2)"));
   CHECK(contains(text, "reconnected after a timeout"));
   CHECK(contains(text, "Data out of range"));
   CHECK(!contains(text, "step 1 settled"));  // info events stay out
   CHECK(contains(text, "Points (6)"));
-  CHECK(contains(text, "339.125"));
-  CHECK(contains(text, "NO"));  // the unsettled step
+  CHECK(contains(text, "339.1 V"));
+  CHECK(contains(text, "10.00 µA"));  // a set load
+  CHECK(contains(text, "NO"));        // the unsettled step
   CHECK(!contains(text, "Drift"));
+  // Times in UTC with the Z, to the second: queued/started, computed, events.
+  CHECK(contains(text, "started   2026-12-01T21:15:14Z\n"));
+  CHECK(contains(text, "ended     2026-12-01T21:16:17Z\n"));
+  CHECK(contains(text, "2026-12-01T21:15:26Z  warning  meter  reconnect"));
+  CHECK(!contains(text, ".123Z"));
+}
+
+TEST_CASE("the text report shows times in local time with the offset when asked", "[report]") {
+  TempDir dir("zout-report-text");
+  const ReportDatabase db = make_report_database(dir.path);
+  const auto record = report::load_run_record(db.file, db.production_run);
+  const char* saved = std::getenv("TZ");
+  const std::string old_zone = saved ? saved : "";
+  ::setenv("TZ", "NST+3:30", 1);  // 3 h 30 min behind UTC, no summer time
+  ::tzset();
+  const std::string text = report::render_text_report(record, text::TimeZoneChoice::local);
+  if (saved) {
+    ::setenv("TZ", old_zone.c_str(), 1);
+  } else {
+    ::unsetenv("TZ");
+  }
+  ::tzset();
+  INFO(text);
+  CHECK(contains(text, "started   2026-12-01T17:45:14-03:30\n"));
+  CHECK(contains(text, "2026-12-01T17:45:26-03:30  warning  meter  reconnect"));
+  CHECK(!contains(text, "21:15:14"));
 }
 
 TEST_CASE("the JSON report's model comparison equals the book's formulas", "[report]") {
@@ -216,17 +257,20 @@ TEST_CASE("a soak report shows the drift slopes with their standard errors", "[r
   TempDir dir("zout-report-soak");
   const ReportDatabase db = make_report_database(dir.path);
   const auto record = report::load_run_record(db.file, db.soak_run);
-  const std::string text = report::render_text_report(record);
+  const std::string text = report::render_text_report(record, text::TimeZoneChoice::utc);
   INFO(text);
   CHECK(contains(text, "Drift over 8 sweeps"));
-  CHECK(contains(text, "-0.5 ± 0.04 V/h"));
-  CHECK(contains(text, "200 ± 15 ohm/h"));
-  CHECK(contains(text, "0.02 ± 0.01 V/h"));
+  CHECK(contains(text, "V_oc drift    -500.0 mV/h ± 40.0 mV/h"));
+  CHECK(contains(text, "Z_out drift   200.0 Ω/h ± 15.0 Ω/h"));
+  CHECK(contains(text, "ripple drift  20.00 mV/h ± 10.00 mV/h"));
+  CHECK(contains(text, "note      —\n"));  // none given: the missing-value mark
   CHECK(contains(text, "Verdict: PASS"));
   const auto json = report::render_json_report(record);
   CHECK(json["drift"]["z_out_ohms_per_hour"].get<double>() == 200.0);
   CHECK(json["drift"]["v_oc_stderr_volts_per_hour"].get<double>() == 0.04);
   CHECK(json["figures"]["sweep"] == 8);  // the eighth sweep, counted from 1
+  CHECK(json["run"]["note"] == "");
+  CHECK(json["run"]["started_at"] == "2026-12-01T21:16:54.123Z");  // the store's text, unchanged
 }
 
 TEST_CASE("export rows carry every reading with its point, in order", "[report]") {
