@@ -5,6 +5,8 @@
 
 #include "daemon/analysis/cascade_model.h"
 #include "daemon/analysis/rated_step.h"
+#include "daemon/store/sweep_figures.h"
+#include "daemon/text/quantity_names.h"
 
 namespace zout::report {
 namespace {
@@ -81,15 +83,17 @@ std::vector<ComparisonRow> compare_with_model(const RunRecord& record) {
   }
 
   std::vector<ComparisonRow> rows;
-  const auto add = [&](const char* quantity, const char* key, const char* unit, std::optional<double> m,
+  // Each row's unit is its figure's, from the store's figure table.
+  const auto add = [&](const std::string& quantity, const char* key, const char* figure, std::optional<double> m,
                        std::optional<double> model) {
-    rows.push_back({quantity, key, unit, m, model, difference_percent(m, model)});
+    rows.push_back({quantity, key, std::string(store::sweep_figure_named(figure)->unit), m, model,
+                    difference_percent(m, model)});
   };
-  add("V_oc", "v_oc_volts", "V", v_oc, model_v_oc);
-  add("Z_out", "z_out_ohms", "ohm", measured(&store::SweepResultRecord::z_out_ohms), model_z_out);
-  add("droop at rated load", "droop_rated_volts", "V", measured_droop, model_droop);
-  add("ripple pp at rated load", "ripple_rated_pp_volts", "V", measured(&store::SweepResultRecord::ripple_rated_pp_volts),
-      model_ripple);
+  add(text::quantity::v_oc, "v_oc_volts", "v_oc_volts", v_oc, model_v_oc);
+  add(text::quantity::z_out, "z_out_ohms", "z_out_ohms", measured(&store::SweepResultRecord::z_out_ohms), model_z_out);
+  add("droop at rated load", "droop_rated_volts", "model_droop_rated_volts", measured_droop, model_droop);
+  add(std::string(text::quantity::ripple_pp) + " at rated load", "ripple_rated_pp_volts", "ripple_rated_pp_volts",
+      measured(&store::SweepResultRecord::ripple_rated_pp_volts), model_ripple);
   return rows;
 }
 

@@ -28,7 +28,7 @@ double model_output_volts(const CascadeDrive& drive, double load_amps);
 struct ComparisonRow {
   std::string quantity;  // "V_oc", "Z_out", "droop at rated load", "ripple pp at rated load"
   std::string key;       // JSON name: v_oc_volts, z_out_ohms, droop_rated_volts, ripple_rated_pp_volts
-  std::string unit;      // V or ohm
+  std::string unit;      // V or Ω (the figure's unit, store/sweep_figures.h)
   std::optional<double> measured;
   std::optional<double> model;
   // 100·(measured − model)/model; empty when either is missing or the model is 0.

@@ -29,9 +29,6 @@ std::string figure(const std::optional<double>& value, const std::optional<doubl
 // Text a person typed (operator, note), or the missing-value mark when there is none.
 std::string or_mark(const std::string& words) { return words.empty() ? std::string(text::missing_value_mark) : words; }
 
-// The unit symbol of a model comparison row (whose JSON unit is plain ASCII).
-std::string unit_symbol(const std::string& json_unit) { return json_unit == "ohm" ? "Ω" : json_unit; }
-
 nlohmann::json json_of(const std::optional<double>& v) { return v ? nlohmann::json(*v) : nlohmann::json(nullptr); }
 
 enum class Align { left, numbers_right };
@@ -132,7 +129,7 @@ std::string render_text_report(const RunRecord& record, text::TimeZoneChoice zon
   }
   std::vector<std::vector<std::string>> comparison = {{"quantity", "measured", "model", "difference"}};
   for (const auto& row : compare_with_model(record)) {
-    const std::string unit = unit_symbol(row.unit);
+    const std::string& unit = row.unit;
     comparison.push_back({row.quantity, number(row.measured, unit.c_str()), number(row.model, unit.c_str()),
                           row.difference_percent ? fmt::format("{:+.2f} %", *row.difference_percent)
                                                  : std::string(text::missing_value_mark)});
@@ -164,7 +161,7 @@ std::string render_text_report(const RunRecord& record, text::TimeZoneChoice zon
   if (!r || !r->verdict) {
     out += "none\n";
   } else {
-    out += *r->verdict == store::Verdict::pass ? "PASS\n" : "FAIL\n";
+    out += std::string(store::to_string(*r->verdict)) + "\n";  // the verdict's one word set: pass | fail
     for (const auto& reason : r->verdict_reasons) out += "  - " + reason + "\n";
   }
 

@@ -147,7 +147,7 @@ TEST_CASE("zout report prints a run's report and exits 0", "[report]") {
   CHECK(r.out.find("unit CW5-0042 (CW5), slot 3") != std::string::npos);
   CHECK(r.out.find("119.3 kΩ ± 1.5 kΩ") != std::string::npos);
   CHECK(r.out.find("started   2026-12-01T21:15:14Z\n") != std::string::npos);
-  CHECK(r.out.find("Verdict: FAIL") != std::string::npos);
+  CHECK(r.out.find("Verdict: fail") != std::string::npos);
 
   const auto json = zout_cli({"report", std::to_string(db.soak_run), "--json", "--db", db.file.string()});
   REQUIRE(json.exit_code == 0);

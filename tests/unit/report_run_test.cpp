@@ -184,7 +184,7 @@ TEST_CASE("the text report shows the figures, the model comparison, points, verd
   CHECK(contains(text, "15.96 V"));
   CHECK(contains(text, text::si_text(392.4 - 286.5, "V", 4)));  // measured droop
   CHECK(contains(text, fmt::format("{:+.2f} %", 100.0 * (392.4 - 400.0) / 400.0)));
-  CHECK(contains(text, "Verdict: FAIL"));
+  CHECK(contains(text, "Verdict: fail"));
   CHECK(contains(text, "  - z_out_ohms 119250 is above z_out_max_ohms 115000"));  // as stored
   CHECK(contains(text, "Warnings and errors (2)"));
   CHECK(contains(text, "reconnected after a timeout"));
@@ -264,7 +264,7 @@ TEST_CASE("a soak report shows the drift slopes with their standard errors", "[r
   CHECK(contains(text, "Z_out drift   200.0 Ω/h ± 15.0 Ω/h"));
   CHECK(contains(text, "ripple drift  20.00 mV/h ± 10.00 mV/h"));
   CHECK(contains(text, "note      —\n"));  // none given: the missing-value mark
-  CHECK(contains(text, "Verdict: PASS"));
+  CHECK(contains(text, "Verdict: pass"));
   const auto json = report::render_json_report(record);
   CHECK(json["drift"]["z_out_ohms_per_hour"].get<double>() == 200.0);
   CHECK(json["drift"]["v_oc_stderr_volts_per_hour"].get<double>() == 0.04);
