@@ -36,7 +36,7 @@ std::vector<std::int64_t> queued_ids(const std::string& out) {
 
 }  // namespace
 
-TEST_CASE("zout status describes the daemon, the bench and the queue; without zoutd it says how to start it",
+TEST_CASE("zout status describes the daemon, the bench and the queue, without zoutd it says how to start it",
           "[cli][daemon-cli]") {
   Bench bench;
   const std::string socket = bench.dir + "/zoutd.sock";
@@ -64,7 +64,7 @@ TEST_CASE("zout status describes the daemon, the bench and the queue; without zo
   CHECK_THAT(down.err, Contains("cannot reach zoutd at " + socket) && Contains("zoutd --bench"));
 }
 
-TEST_CASE("zout start queues units; zout watch follows them to the verdict with progress", "[cli][daemon-cli]") {
+TEST_CASE("zout start queues units, zout watch follows them to the verdict with progress", "[cli][daemon-cli]") {
   Bench bench;
   const std::string socket = bench.dir + "/zoutd.sock";
   const auto started = zout_cli({"start", bench.dir + "/plan.json", "--unit", "IT-0001@1", "--unit", "IT-0002@2",
@@ -137,7 +137,7 @@ TEST_CASE("zout start --panel --watch --json streams notifications and exits by 
   CHECK(final_states[std::to_string(run_order[1])] == "failed");
 }
 
-TEST_CASE("zout abort ends a running soak in safe state; refused plans and bad arguments exit clearly",
+TEST_CASE("zout abort ends a running soak in safe state, refused plans and bad arguments exit clearly",
           "[cli][daemon-cli]") {
   Bench bench;
   const std::string socket = bench.dir + "/zoutd.sock";

@@ -10,7 +10,7 @@
 using namespace zout;
 using namespace zout::test;
 
-TEST_CASE("a panel batch runs unattended; faulty units fail for their reason; sqlite3 reads the results",
+TEST_CASE("a panel batch runs unattended, faulty units fail for their reason, sqlite3 reads the results",
           "[daemon]") {
   Bench bench;
   bench.client->call("events.subscribe", json::object());
@@ -200,7 +200,7 @@ TEST_CASE("an overload reading trips safe state and ends the run with a safety e
   REQUIRE(bench.db_value("SELECT count(*) FROM reading WHERE value > 1e30").get<int>() == 0);
 }
 
-TEST_CASE("error-queue entries are events; after configuring they end the run in error", "[daemon]") {
+TEST_CASE("error-queue entries are events, after configuring they end the run in error", "[daemon]") {
   Bench bench;
   bench.client->call("events.subscribe", json::object());
   // Entries left in a queue are logged when the daemon connects before the next run.
@@ -224,7 +224,7 @@ TEST_CASE("error-queue entries are events; after configuring they end the run in
   REQUIRE_FALSE(bench.instrument_state_on("source", "OUTPut:STATe?"));
 }
 
-TEST_CASE("unsafe plans, malformed plans and malformed requests are refused; no run is created", "[daemon]") {
+TEST_CASE("unsafe plans, malformed plans and malformed requests are refused, no run is created", "[daemon]") {
   Bench bench;
   json unsafe = test_plan();
   unsafe["source"]["amplitude_volts_peak"] = 44;  // 2·5·44 = 440 V ideal, bench allows 450 V: fine

@@ -275,7 +275,7 @@ TEST_CASE("zout report --plot writes SVG and PNG plots whose markers are the sto
   }
 }
 
-TEST_CASE("a soak run also gets its trend plot; a missing gnuplot is named", "[report]") {
+TEST_CASE("a soak run also gets its trend plot, a missing gnuplot is named", "[report]") {
   TempDir dir("zout-report-plot");
   const ReportDatabase db = make_report_database(dir.path);
   const std::string id = std::to_string(db.soak_run);

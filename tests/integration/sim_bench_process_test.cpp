@@ -128,7 +128,7 @@ TEST_CASE("zout-sim prints every address once ready and answers *IDN? on TCP and
   }
 }
 
-TEST_CASE("the dialect-driven instruments drive the simulated bench; more load gives lower DC as the model says",
+TEST_CASE("the dialect-driven instruments drive the simulated bench, more load gives lower DC as the model says",
           "[sim-bench]") {
   Sim sim(test_config(), true);
   const std::string link = GENERATE("tcp", "pty");
@@ -272,7 +272,7 @@ TEST_CASE("the meter returns overload above its range and on an injected overloa
   REQUIRE(load.measure_voltage_volts() > 350.0);
 }
 
-TEST_CASE("the switch selects a slot; each serial measures as itself; an open output reads 0 V", "[sim-bench]") {
+TEST_CASE("the switch selects a slot, each serial measures as itself, an open output reads 0 V", "[sim-bench]") {
   Sim sim;
   Session switch_session = sim.session("switch");
   Session source_session = sim.session("source");

@@ -95,7 +95,7 @@ TEST_CASE("a figure that could not be computed fails its limit with that reason"
   CHECK_FALSE(judge_sweep(f, limits).passed);
 }
 
-TEST_CASE("no limits: passes with no checks; drift limits on the magnitude", "[analysis][verdict]") {
+TEST_CASE("no limits: passes with no checks, drift limits on the magnitude", "[analysis][verdict]") {
   CHECK(judge_sweep(SweepFigures{}, Limits{}).passed);
   DriftFigures d;
   d.v_oc_volts_per_hour = Computed<double>::of(-0.052);

@@ -14,7 +14,7 @@ using namespace zout;
 using namespace zout::cli;
 using Catch::Contains;
 
-TEST_CASE("a unit argument is SERIAL or SERIAL@SLOT; mistakes are named", "[cli-text]") {
+TEST_CASE("a unit argument is SERIAL or SERIAL@SLOT, mistakes are named", "[cli-text]") {
   CHECK(parse_unit_argument("BB5-2611-0001").serial == "BB5-2611-0001");
   CHECK_FALSE(parse_unit_argument("BB5-2611-0001").slot.has_value());
   const auto on_panel = parse_unit_argument("BB5-2611-0001@7");
@@ -28,7 +28,7 @@ TEST_CASE("a unit argument is SERIAL or SERIAL@SLOT; mistakes are named", "[cli-
   CHECK_THROWS_WITH(parse_unit_argument("X@1.5"), Contains("slot \"1.5\""));
 }
 
-TEST_CASE("a panel file lists units in slot order; mistakes name the file and JSON path", "[cli-text]") {
+TEST_CASE("a panel file lists units in slot order, mistakes name the file and JSON path", "[cli-text]") {
   const auto dir = std::filesystem::temp_directory_path() / ("zout-cli-text-" + std::to_string(::getpid()));
   std::filesystem::create_directories(dir);
   const auto write = [&](const std::string& name, const std::string& text) {

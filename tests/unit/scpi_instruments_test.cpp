@@ -332,7 +332,7 @@ TEST_CASE("load sends the dialect's exact commands", "[instruments]") {
   CHECK(link.wire->written.size() == 6);
 }
 
-TEST_CASE("load measurements are numbers; an overload is a protocol error", "[instruments]") {
+TEST_CASE("load measurements are numbers, an overload is a protocol error", "[instruments]") {
   Link link("mem://load");
   zout::ScpiLoad load(link.session, shipped("scpi-load.json"));
   link.reply({"+1.49E-03", "+2.0501E+03", "9.91E37"});

@@ -66,7 +66,7 @@ TEST_CASE("a header pattern takes the long form, the short form, any case, optio
   REQUIRE_THROWS_AS(HeaderPattern("source"), std::invalid_argument);
 }
 
-TEST_CASE("a ';' chain continues at the level of the previous header; ':' returns to the root", "[sim-bench]") {
+TEST_CASE("a ',' chain continues at the level of the previous header, ':' returns to the root", "[sim-bench]") {
   HeaderTree tree;
   const auto frequency = tree.add("[SOURce:]FREQuency[:CW]");
   const auto amplitude = tree.add("[SOURce:]VOLTage[:LEVel][:IMMediate][:AMPLitude]");

@@ -62,7 +62,7 @@ TEST_CASE("FNV-1a and the seeded generator are the published algorithms, stable 
   REQUIRE(squares / n == Approx(1.0).epsilon(0.04));
 }
 
-TEST_CASE("the same serial always builds the same unit; another serial another spread", "[sim-bench]") {
+TEST_CASE("the same serial always builds the same unit, another serial another spread", "[sim-bench]") {
   const SimConfig config = SimConfig::from_json(minimal_config(), "test");
   const CascadeCircuit a = build_unit_circuit(config, "BB5-2611-0001", UnitFault::none);
   const CascadeCircuit again = build_unit_circuit(config, "BB5-2611-0001", UnitFault::none);

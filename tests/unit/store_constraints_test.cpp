@@ -152,7 +152,7 @@ TEST_CASE("the schema refuses malformed times, a set load of both kinds, and dan
   REQUIRE(f.count("point") == 1);
 }
 
-TEST_CASE("run states only move forward; plans and points never change", "[store]") {
+TEST_CASE("run states only move forward, plans and points never change", "[store]") {
   Fixture f;
   const auto now = std::chrono::system_clock::now();
   REQUIRE_THROWS_WITH(f.writer.set_run_state(f.run, RunState::running, now), Catch::Contains("is already running"));

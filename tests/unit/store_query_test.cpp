@@ -159,7 +159,7 @@ TEST_CASE("a missing database is an error naming the file", "[store]") {
   REQUIRE_FALSE(fs::exists(dir.path / "absent.db"));
 }
 
-TEST_CASE("cells print reals exactly and never like integers; CSV fields quote per RFC 4180", "[store][cli]") {
+TEST_CASE("cells print reals exactly and never like integers, CSV fields quote per RFC 4180", "[store][cli]") {
   using zout::cli::cell_text;
   using zout::cli::csv_field;
   REQUIRE(cell_text(QueryValue{2.0}) == "2.0");

@@ -177,7 +177,7 @@ TEST_CASE("RunReader gives a run's history: points with readings numbered from 1
   CHECK_FALSE(reader.history(999));
 }
 
-TEST_CASE("times read back are exactly the times written; other text is refused", "[store]") {
+TEST_CASE("times read back are exactly the times written, other text is refused", "[store]") {
   for (const char* text : {"2026-12-01T21:15:14.123Z", "1970-01-01T00:00:00.000Z", "2028-02-29T23:59:59.999Z"}) {
     CHECK(format_utc(parse_utc(text)) == text);
   }

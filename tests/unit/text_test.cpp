@@ -125,7 +125,7 @@ TEST_CASE("si_prefix_for picks the prefix that puts a magnitude in [1, 1000)", "
   CHECK(si_prefix_for(1e20).symbol == "G");
 }
 
-TEST_CASE("the store's UTC text reads back to its instant; other text does not", "[text]") {
+TEST_CASE("the store's UTC text reads back to its instant, other text does not", "[text]") {
   using namespace std::chrono;
   const auto t = parse_utc_text("2026-12-02T10:11:12.345Z");
   REQUIRE(t);
