@@ -253,8 +253,11 @@ RunExecutor::Outcome RunExecutor::run_sweeps(const RunTicket& ticket, PointMeasu
       const auto next = sweep_start + std::chrono::duration_cast<std::chrono::nanoseconds>(
                                           std::chrono::duration<double>(plan.repeat.interval_s));
       if (next > std::chrono::steady_clock::now()) {
-        // Between soak sweeps the drive stays on; the load rests at the first step.
-        apply_step(plan, 0);
+        // Between soak sweeps the drive stays on; the load rests at the first step (a fault
+        // there is recovered like a step's).
+        with_recovery(ticket, measurer, 0, failures_left, [&](bool recovered) {
+          if (!recovered) apply_step(plan, 0);
+        });
         wait_or_abort(next - std::chrono::steady_clock::now());
       }
     }
