@@ -36,18 +36,21 @@ int main(int argc, char** argv) {
   try {
     const zout::BenchConfig bench = zout::load_bench_file(bench_path);
     asio::io_context io;
-    std::unique_ptr<zout::ControlServer> server;
+    // The server exists before the engine starts: the engine notifies from start() on, from
+    // its own thread, and broadcast() is safe from any thread. The requests it dispatches
+    // run on this thread inside io.run(), after `methods` is set below; `methods` needs the
+    // started engine (it opens the database read-only).
+    std::unique_ptr<zout::ControlMethods> methods;
+    zout::ControlServer server(io, bench.control_socket_path,
+                               [&methods](const zout::rpc::Request& request, zout::ControlServer::CallContext& context) {
+                                 return methods->call(request, context);
+                               });
     zout::Engine engine(bench, [&server](const std::string& method, const nlohmann::json& params) {
-      if (server) server->broadcast(method, params);
+      server.broadcast(method, params);
     });
     engine.start();
-    zout::ControlMethods methods(engine);
-    server = std::make_unique<zout::ControlServer>(
-        io, bench.control_socket_path,
-        [&methods](const zout::rpc::Request& request, zout::ControlServer::CallContext& context) {
-          return methods.call(request, context);
-        });
-    server->start();
+    methods = std::make_unique<zout::ControlMethods>(engine);
+    server.start();
     std::cerr << "zoutd: listening on " << bench.control_socket_path << " (station " << bench.station
               << ", database " << bench.database_path << ")" << std::endl;
     // One JSON line on stdout once the socket accepts: the ready signal for scripts and tests.
@@ -60,12 +63,12 @@ int main(int argc, char** argv) {
     signals.async_wait([&](const asio::error_code&, int signal_number) {
       std::cerr << "zoutd: signal " << signal_number << ": stopping" << std::endl;
       engine.stop();  // aborts the run in progress; bench left in safe state
-      server->stop();
+      server.stop();
       io.stop();
     });
     io.run();
     engine.stop();
-    server.reset();
+    server.stop();
     return 0;
   } catch (const zout::ConfigError& e) {
     std::cerr << "zoutd: " << e.what() << std::endl;

@@ -2,6 +2,8 @@
 
 #include <fmt/format.h>
 
+#include "daemon/engine/bench_connection.h"
+#include "daemon/engine/run_state_notice.h"
 #include "daemon/plan/config_error.h"
 #include "daemon/plan/safety_check.h"
 #include "daemon/store/store_error.h"
@@ -18,8 +20,13 @@ WallTime now() { return std::chrono::system_clock::now(); }
 
 }  // namespace
 
-Engine::Engine(BenchConfig bench, Notify notify, RecoveryPolicy recovery)
-    : bench_(std::move(bench)), notify_(std::move(notify)), recovery_(std::move(recovery)) {}
+Engine::Engine(BenchConfig bench, Notify notify, RecoveryPolicy recovery, BenchFactory make_bench)
+    : bench_(std::move(bench)),
+      notify_(std::move(notify)),
+      recovery_(std::move(recovery)),
+      make_bench_(make_bench ? std::move(make_bench) : BenchFactory([](const BenchConfig& config) {
+        return std::make_unique<BenchConnection>(config);
+      })) {}
 
 Engine::~Engine() { stop(); }
 
@@ -38,7 +45,7 @@ void Engine::start() {
   engine_events_->record(EventLevel::info, "engine", "startup",
                          fmt::format("zoutd started for station {} with database {}", bench_.station,
                                      bench_.database_path));
-  connection_ = std::make_unique<BenchConnection>(bench_);
+  connection_ = make_bench_(bench_);
   ensure_bench_connected(std::nullopt);
   thread_ = std::thread([this] { loop(); });
 }
@@ -135,7 +142,7 @@ std::optional<RunTicket> Engine::next_ticket() {
       // A stored plan this version cannot run must not block the queue behind it.
       engine_store_->set_run_state(ticket.run_id, RunState::error, now());
       engine_events_->record(EventLevel::error, "engine", "run.refused", e.what(), ticket.run_id);
-      notify_("run.state", {{"run_id", ticket.run_id}, {"state", "error"}, {"reason", e.what()}});
+      notify_("run.state", run_state_params(ticket.run_id, RunState::error, now(), e.what()));
     }
   }
 }
@@ -162,17 +169,18 @@ void Engine::loop() {
       // A passing fault (a dropped link, a garbled reply) gets a few tries before the bench
       // counts as unreachable.
       bool connected = false;
-      for (int attempt = 0; attempt < 3 && !connected && !stopping_; ++attempt) {
-        if (attempt > 0) std::this_thread::sleep_for(std::chrono::milliseconds(500));
+      for (int attempt = 0; attempt < recovery_.connect_attempts && !connected && !stopping_; ++attempt) {
+        if (attempt > 0) std::this_thread::sleep_for(recovery_.connect_retry_pause);
         connected = ensure_bench_connected(run_id);
       }
       if (!connected) {
-        engine_store_->set_run_state(run_id, RunState::running, now());
-        engine_store_->set_run_state(run_id, RunState::interrupted, now());
-        notify_("run.state", {{"run_id", run_id}, {"state", "interrupted"}, {"reason", "bench unreachable"}});
+        const auto at = now();
+        engine_store_->set_run_state(run_id, RunState::running, at);
+        engine_store_->set_run_state(run_id, RunState::interrupted, at);
+        notify_("run.state", run_state_params(run_id, RunState::interrupted, at, "bench unreachable"));
         // Do not spin through the queue while the bench is away.
         std::unique_lock lock(wake_mutex_);
-        wake_.wait_for(lock, std::chrono::seconds(5), [this] { return stopping_.load(); });
+        wake_.wait_for(lock, recovery_.unreachable_pause, [this] { return stopping_.load(); });
       } else {
         RunServices services{*engine_store_, *connection_, bench_, recovery_, station_id_, instrument_ids_,
                              notify_,        *engine_events_,
@@ -183,8 +191,9 @@ void Engine::loop() {
     } catch (const std::exception& e) {
       engine_events_->record(EventLevel::error, "engine", "run.refused", e.what(), run_id);
       try {
-        engine_store_->set_run_state(run_id, RunState::error, now());
-        notify_("run.state", {{"run_id", run_id}, {"state", "error"}, {"reason", e.what()}});
+        const auto at = now();
+        engine_store_->set_run_state(run_id, RunState::error, at);
+        notify_("run.state", run_state_params(run_id, RunState::error, at, e.what()));
       } catch (const std::exception&) {
         // Already final (aborted while queued): nothing to do.
       }
@@ -221,7 +230,7 @@ std::vector<std::int64_t> Engine::enqueue(const Plan& plan, const std::string& p
                         RunState::queued, at, operator_name, note, unit.slot};
       const auto run_id = control_store_->create_run(run);
       ids.push_back(run_id);
-      notify_("run.state", {{"run_id", run_id}, {"state", "queued"}, {"at", store::format_utc(at)}});
+      notify_("run.state", run_state_params(run_id, RunState::queued, at, ""));
     }
   }
   {
@@ -238,8 +247,9 @@ bool Engine::abort(std::int64_t run_id) {
     return true;
   }
   std::lock_guard lock(control_mutex_);
+  const auto at = now();
   try {
-    control_store_->set_run_state(run_id, RunState::aborted, now());
+    control_store_->set_run_state(run_id, RunState::aborted, at);
   } catch (const store::StoreError&) {
     // Not queued (already over, unknown) — or it just started: try the running path again.
     if (running_run_id_.load() == run_id) {
@@ -249,7 +259,7 @@ bool Engine::abort(std::int64_t run_id) {
     return false;
   }
   control_events_->record(EventLevel::info, "engine", "run.aborted", "aborted while queued", run_id);
-  notify_("run.state", {{"run_id", run_id}, {"state", "aborted"}, {"reason", "aborted while queued"}});
+  notify_("run.state", run_state_params(run_id, RunState::aborted, at, "aborted while queued"));
   return true;
 }
 

@@ -18,7 +18,7 @@
 
 #include <nlohmann/json.hpp>
 
-#include "daemon/engine/bench_connection.h"
+#include "daemon/engine/bench.h"
 #include "daemon/engine/event_log.h"
 #include "daemon/engine/recovery_policy.h"
 #include "daemon/engine/run_executor.h"
@@ -36,7 +36,12 @@ struct UnitRequest {
 
 class Engine {
  public:
-  Engine(BenchConfig bench, Notify notify, RecoveryPolicy recovery = {});
+  // `notify` is called from start() on the calling thread and, once start() has begun the
+  // engine thread, from that thread at any time until stop() returns (a run queued before
+  // a restart starts at once): whatever it reaches must be ready before start() and outlive
+  // stop(). `make_bench` builds the bench from the bench file when start() runs; empty means
+  // BenchConnection (SCPI over the file's links).
+  Engine(BenchConfig bench, Notify notify, RecoveryPolicy recovery = {}, BenchFactory make_bench = {});
   ~Engine();
 
   // Start-up (DEVELOPERS.md, "Run lifecycle"): opens the store (migrating it), marks runs left `running` as
@@ -72,6 +77,7 @@ class Engine {
   BenchConfig bench_;
   Notify notify_;
   RecoveryPolicy recovery_;
+  BenchFactory make_bench_;
 
   std::unique_ptr<store::StoreWriter> engine_store_;   // engine thread only (and start())
   std::unique_ptr<EventLog> engine_events_;
@@ -80,7 +86,7 @@ class Engine {
   std::mutex control_mutex_;
   std::int64_t station_id_ = 0;
 
-  std::unique_ptr<BenchConnection> connection_;  // engine thread only
+  std::unique_ptr<Bench> connection_;  // engine thread only (and start(), stop())
   std::map<std::string, std::int64_t> instrument_ids_;
   mutable std::mutex describe_mutex_;
   nlohmann::json instruments_json_ = nlohmann::json::array();

@@ -34,7 +34,7 @@ double seconds_since(std::chrono::steady_clock::time_point start) {
 
 }  // namespace
 
-PointMeasurer::PointMeasurer(BenchConnection& bench, const Plan& plan, const SafetyLimits& safety,
+PointMeasurer::PointMeasurer(Bench& bench, const Plan& plan, const SafetyLimits& safety,
                              std::function<bool()> abort_requested)
     : bench_(bench), plan_(plan), safety_(safety), abort_requested_(std::move(abort_requested)) {}
 

@@ -12,7 +12,8 @@
 #include <string>
 #include <vector>
 
-#include "daemon/engine/bench_connection.h"
+#include "daemon/engine/bench.h"
+#include "drivers/scpi/response.h"
 #include "daemon/plan/bench_config.h"
 #include "daemon/plan/plan.h"
 
@@ -46,7 +47,7 @@ class PointMeasurer {
  public:
   // `abort_requested` is polled between readings; when it returns true, measure() throws
   // RunAborted. All references must outlive the measurer.
-  PointMeasurer(BenchConnection& bench, const Plan& plan, const SafetyLimits& safety,
+  PointMeasurer(Bench& bench, const Plan& plan, const SafetyLimits& safety,
                 std::function<bool()> abort_requested);
 
   // Puts the DMM on DC volts with the plan's range and NPLC (again after a reconnect).
@@ -61,7 +62,7 @@ class PointMeasurer {
   double checked_dc(const ScpiNumber& reading, const char* what) const;
   void check_abort() const;
 
-  BenchConnection& bench_;
+  Bench& bench_;
   const Plan& plan_;
   const SafetyLimits& safety_;
   std::function<bool()> abort_requested_;

@@ -13,6 +13,11 @@ struct RecoveryPolicy {
                                                  std::chrono::milliseconds(1000), std::chrono::milliseconds(2000)};
   // Failed attempts allowed over a whole run (every step together).
   int run_budget = 20;
+  // Before each run the engine tries this often to reach the bench, pausing between tries.
+  int connect_attempts = 3;
+  std::chrono::milliseconds connect_retry_pause{500};
+  // After a run found the bench unreachable, the queue rests this long (or until stopped).
+  std::chrono::milliseconds unreachable_pause{5000};
 };
 
 }  // namespace zout

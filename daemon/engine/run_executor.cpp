@@ -6,6 +6,7 @@
 #include <thread>
 
 #include "daemon/engine/engine_errors.h"
+#include "daemon/engine/run_state_notice.h"
 #include "daemon/engine/sweep_evaluation.h"
 #include "daemon/store/utc_time.h"
 #include "drivers/scpi/instrument_error.h"
@@ -51,11 +52,9 @@ nlohmann::json point_json(std::int64_t run_id, int sweep_index, const Plan& plan
 }  // namespace
 
 void RunExecutor::set_state(std::int64_t run_id, RunState state, const std::string& reason) {
-  s_.store.set_run_state(run_id, state, now());
-  nlohmann::json params = {{"run_id", run_id}, {"state", std::string(store::to_string(state))},
-                           {"at", store::format_utc(now())}};
-  if (!reason.empty()) params["reason"] = reason;
-  s_.notify("run.state", params);
+  const auto at = now();
+  s_.store.set_run_state(run_id, state, at);
+  s_.notify("run.state", run_state_params(run_id, state, at, reason));
 }
 
 void RunExecutor::update_progress(const std::function<void(RunProgress&)>& change) {
@@ -103,202 +102,227 @@ void RunExecutor::apply_step(const Plan& plan, std::size_t step_index) {
   }
 }
 
-void RunExecutor::recover(const RunTicket& ticket, PointMeasurer& measurer, std::size_t step_index, int attempt) {
-  const auto& backoff = s_.recovery.backoff;
-  wait_or_abort(backoff[std::min<std::size_t>(static_cast<std::size_t>(attempt), backoff.size() - 1)]);
-  for (const auto& role : s_.bench.roles()) s_.bench.reconnect(role);
-  if (ticket.slot && s_.bench.panel_switch()) s_.bench.panel_switch()->close_slot(*ticket.slot);
-  configure_bench(ticket.plan, ticket.run_id, measurer);
+void RunExecutor::bring_up(const Plan& plan, std::int64_t run_id, PointMeasurer& measurer, std::size_t step_index) {
+  configure_bench(plan, run_id, measurer);
   s_.bench.source().set_output(true);
-  apply_step(ticket.plan, step_index);
+  apply_step(plan, step_index);
   s_.bench.load().set_input(true);
-  event(EventLevel::info, "engine", "reconnect", fmt::format("bench reconnected and reconfigured; repeating step {}",
-                                                             step_index + 1), ticket.run_id);
 }
 
-MeasuredPoint RunExecutor::measure_with_recovery(const RunTicket& ticket, PointMeasurer& measurer,
-                                                 std::size_t step_index, int& failures_left, bool step_applied) {
-  int attempt = 0;
+bool RunExecutor::may_retry(int attempts, int& failures_left) const {
+  return --failures_left >= 0 && attempts < static_cast<int>(s_.recovery.backoff.size());
+}
+
+void RunExecutor::recover(const RunTicket& ticket, PointMeasurer& measurer, std::size_t step_index, int& attempts,
+                          int& failures_left) {
+  const auto& backoff = s_.recovery.backoff;
   for (;;) {
+    wait_or_abort(backoff[std::min<std::size_t>(static_cast<std::size_t>(attempts), backoff.size() - 1)]);
+    ++attempts;
     try {
-      if (!step_applied) apply_step(ticket.plan, step_index);
-      step_applied = false;  // a repeat after recovery: recover() has set it
-      return measurer.measure(static_cast<int>(step_index), std::chrono::steady_clock::now(), now());
+      for (const auto& role : s_.bench.roles()) s_.bench.reconnect(role);
+      if (ticket.slot && s_.bench.panel_switch()) s_.bench.panel_switch()->close_slot(*ticket.slot);
+      bring_up(ticket.plan, ticket.run_id, measurer, step_index);
+      event(EventLevel::info, "engine", "reconnect",
+            fmt::format("bench reconnected and reconfigured; repeating step {}", step_index + 1), ticket.run_id);
+      return;
     } catch (const IoError& e) {
-      event(EventLevel::warning, "engine", io_event_code(e), e.what(), ticket.run_id);
-      if (--failures_left < 0 || attempt >= static_cast<int>(s_.recovery.backoff.size())) throw;
-    }
-    // Reconnecting can fail too; each failure spends the same budgets.
-    for (;;) {
-      try {
-        recover(ticket, measurer, step_index, attempt++);
-        break;
-      } catch (const IoError& e) {
-        event(EventLevel::warning, "engine", "reconnect.failed", e.what(), ticket.run_id);
-        if (--failures_left < 0 || attempt >= static_cast<int>(s_.recovery.backoff.size())) throw;
-      }
+      // Reconnecting can fail too; each failure spends the same budgets.
+      event(EventLevel::warning, "engine", "reconnect.failed", e.what(), ticket.run_id);
+      if (!may_retry(attempts, failures_left)) throw;
     }
   }
 }
 
-RunState RunExecutor::execute(const RunTicket& ticket) {
+void RunExecutor::with_recovery(const RunTicket& ticket, PointMeasurer& measurer, std::size_t step_index,
+                                int& failures_left, const std::function<void(bool recovered)>& action) {
+  int attempts = 0;
+  for (bool recovered = false;; recovered = true) {
+    try {
+      action(recovered);
+      return;
+    } catch (const IoError& e) {
+      event(EventLevel::warning, "engine", io_event_code(e), e.what(), ticket.run_id);
+      if (!may_retry(attempts, failures_left)) throw;
+    }
+    recover(ticket, measurer, step_index, attempts, failures_left);
+  }
+}
+
+void RunExecutor::set_up(const RunTicket& ticket, PointMeasurer& measurer, int& failures_left) {
+  // Safe state first, then configure; only then drive on and load on (DEVELOPERS.md, "Run lifecycle").
+  const auto unsafe = s_.bench.enter_safe_state();
+  if (!unsafe.empty()) throw IoError(IoErrorKind::open_failed, "cannot reach safe state: " + unsafe.front());
+  if (ticket.slot) {
+    if (!s_.bench.panel_switch()) throw std::runtime_error("the run names a slot but the bench has no switch");
+    s_.bench.panel_switch()->close_slot(*ticket.slot);
+  }
+  // Setting up is recovered like a step: after a recovery the bench is already up.
+  with_recovery(ticket, measurer, 0, failures_left, [&](bool recovered) {
+    if (!recovered) bring_up(ticket.plan, ticket.run_id, measurer, 0);
+  });
+}
+
+std::int64_t RunExecutor::commit_point(const Plan& plan, std::int64_t sweep_id, const MeasuredPoint& point) {
+  const auto step = static_cast<std::size_t>(point.step_index);
+  store::PointRecord record;
+  record.sweep_id = sweep_id;
+  record.step_index = point.step_index;
+  if (plan.load.mode == LoadStepMode::current) {
+    record.set_load_amps = plan.load.steps[step];
+  } else {
+    record.set_load_ohms = plan.load.steps[step];
+  }
+  record.measured_load_amps = point.load_amps;
+  record.dc_volts = point.dc_volts;
+  record.ripple_rms_volts = point.ripple_rms_volts;
+  record.ripple_pp_volts = point.ripple_pp_volts;
+  record.settle_s = point.settle_s;
+  record.settled = point.settled;
+  record.step_started_at = point.step_started_at;
+  record.taken_at = point.taken_at;
+  std::vector<store::ReadingRecord> readings;
+  for (const auto& r : point.readings) readings.push_back({s_.instrument_ids.at(r.role), r.kind, r.value, r.taken_at});
+  return s_.store.commit_point(record, readings);
+}
+
+std::vector<MeasuredPoint> RunExecutor::measure_sweep(const RunTicket& ticket, PointMeasurer& measurer,
+                                                      int sweep_index, std::int64_t sweep_id, int& failures_left) {
+  const Plan& plan = ticket.plan;
+  std::vector<MeasuredPoint> points;
+  for (std::size_t step = 0; step < plan.load.steps.size(); ++step) {
+    update_progress([&](RunProgress& p) {
+      p.sweep_index = sweep_index;
+      p.step_index = static_cast<int>(step);
+    });
+    // The first step of the first sweep was set before the load input went on.
+    const bool step_applied = sweep_index == 0 && step == 0;
+    MeasuredPoint point;
+    with_recovery(ticket, measurer, step, failures_left, [&](bool recovered) {
+      if (!recovered && !step_applied) apply_step(plan, step);  // after a recovery the step is set
+      point = measurer.measure(static_cast<int>(step), std::chrono::steady_clock::now(), now());
+    });
+    const auto point_id = commit_point(plan, sweep_id, point);
+    if (!point.settled) {
+      event(EventLevel::warning, "engine", "settle.timeout",
+            fmt::format("step {} did not settle within {:g} s; point kept and marked", step + 1, plan.settle.max_s),
+            ticket.run_id);
+    }
+    const auto params = point_json(ticket.run_id, sweep_index, plan, point, point_id);
+    update_progress([&](RunProgress& p) { p.latest_point = params; });
+    s_.notify("point", params);
+    points.push_back(std::move(point));
+  }
+  return points;
+}
+
+RunExecutor::Outcome RunExecutor::run_sweeps(const RunTicket& ticket, PointMeasurer& measurer, int& failures_left) {
   const Plan& plan = ticket.plan;
   const auto run_id = ticket.run_id;
-  update_progress([&](RunProgress& p) {
-    p = RunProgress{};
-    p.run_id = run_id;
-    p.sweep_count = plan.repeat.count;
-    p.step_count = static_cast<int>(plan.load.steps.size());
-  });
-  set_state(run_id, RunState::running, "");
+  std::vector<analysis::SoakSample> history;
+  bool all_passed = true;
+  std::vector<std::string> failures;
+  const auto first_sweep_start = std::chrono::steady_clock::now();
+  for (int sweep_index = 0; sweep_index < plan.repeat.count; ++sweep_index) {
+    const auto sweep_start = std::chrono::steady_clock::now();
+    const auto sweep_id = s_.store.start_sweep(run_id, sweep_index, now());
+    const auto points = measure_sweep(ticket, measurer, sweep_index, sweep_id, failures_left);
+    s_.store.end_sweep(sweep_id, now());
 
-  RunState final_state = RunState::error;
-  std::string reason;
-  PointMeasurer measurer(s_.bench, plan, s_.config.safety, s_.abort_requested);
-  int failures_left = s_.recovery.run_budget;
-  try {
-    // Safe state first, then configure; only then drive on and load on (DEVELOPERS.md, "Run lifecycle").
-    const auto unsafe = s_.bench.enter_safe_state();
-    if (!unsafe.empty()) throw IoError(IoErrorKind::open_failed, "cannot reach safe state: " + unsafe.front());
-    if (ticket.slot) {
-      if (!s_.bench.panel_switch()) throw std::runtime_error("the run names a slot but the bench has no switch");
-      s_.bench.panel_switch()->close_slot(*ticket.slot);
+    const double since_start_s = std::chrono::duration<double>(sweep_start - first_sweep_start).count();
+    SweepEvaluation evaluation = evaluate_sweep(plan, points, history, since_start_s);
+    evaluation.record.sweep_id = sweep_id;
+    s_.store.record_sweep_result(evaluation.record);
+    auto summary = evaluation.summary;
+    summary["run_id"] = run_id;
+    summary["sweep"] = sweep_index + 1;
+    s_.notify("sweep.result", summary);
+    if (!evaluation.passed) {
+      all_passed = false;
+      for (const auto& r : evaluation.reasons) failures.push_back(fmt::format("sweep {}: {}", sweep_index + 1, r));
     }
-    // Setting up is recovered like a step: a fault while configuring reconnects and retries.
-    for (int attempt = 0;; ++attempt) {
-      try {
-        configure_bench(plan, run_id, measurer);
-        s_.bench.source().set_output(true);
-        apply_step(plan, 0);
-        s_.bench.load().set_input(true);
-        break;
-      } catch (const IoError& e) {
-        event(EventLevel::warning, "engine", io_event_code(e), e.what(), run_id);
-        if (--failures_left < 0 || attempt >= static_cast<int>(s_.recovery.backoff.size())) throw;
-        wait_or_abort(s_.recovery.backoff[static_cast<std::size_t>(attempt)]);
-        for (const auto& role : s_.bench.roles()) {
-          try {
-            s_.bench.reconnect(role);
-          } catch (const IoError& again) {
-            event(EventLevel::warning, "engine", "reconnect.failed", again.what(), run_id);
-          }
-        }
-        if (ticket.slot && s_.bench.panel_switch()) s_.bench.panel_switch()->close_slot(*ticket.slot);
-      }
-    }
-
-    std::vector<analysis::SoakSample> history;
-    bool all_passed = true;
-    std::vector<std::string> failures;
-    const auto first_sweep_start = std::chrono::steady_clock::now();
-    for (int sweep_index = 0; sweep_index < plan.repeat.count; ++sweep_index) {
-      const auto sweep_start = std::chrono::steady_clock::now();
-      const auto sweep_id = s_.store.start_sweep(run_id, sweep_index, now());
-      std::vector<MeasuredPoint> points;
-      for (std::size_t step = 0; step < plan.load.steps.size(); ++step) {
-        update_progress([&](RunProgress& p) {
-          p.sweep_index = sweep_index;
-          p.step_index = static_cast<int>(step);
-        });
-        // The first step of the first sweep was set before the load input went on.
-        const bool step_applied = sweep_index == 0 && step == 0;
-        MeasuredPoint point = measure_with_recovery(ticket, measurer, step, failures_left, step_applied);
-        store::PointRecord record;
-        record.sweep_id = sweep_id;
-        record.step_index = static_cast<int>(step);
-        if (plan.load.mode == LoadStepMode::current) {
-          record.set_load_amps = plan.load.steps[step];
-        } else {
-          record.set_load_ohms = plan.load.steps[step];
-        }
-        record.measured_load_amps = point.load_amps;
-        record.dc_volts = point.dc_volts;
-        record.ripple_rms_volts = point.ripple_rms_volts;
-        record.ripple_pp_volts = point.ripple_pp_volts;
-        record.settle_s = point.settle_s;
-        record.settled = point.settled;
-        record.step_started_at = point.step_started_at;
-        record.taken_at = point.taken_at;
-        std::vector<store::ReadingRecord> readings;
-        for (const auto& r : point.readings) readings.push_back({s_.instrument_ids.at(r.role), r.kind, r.value, r.taken_at});
-        const auto point_id = s_.store.commit_point(record, readings);
-        if (!point.settled) {
-          event(EventLevel::warning, "engine", "settle.timeout",
-                fmt::format("step {} did not settle within {:g} s; point kept and marked", step + 1, plan.settle.max_s),
-                run_id);
-        }
-        const auto params = point_json(run_id, sweep_index, plan, point, point_id);
-        update_progress([&](RunProgress& p) { p.latest_point = params; });
-        s_.notify("point", params);
-        points.push_back(std::move(point));
-      }
-      s_.store.end_sweep(sweep_id, now());
-
-      const double since_start_s = std::chrono::duration<double>(sweep_start - first_sweep_start).count();
-      SweepEvaluation evaluation = evaluate_sweep(plan, points, history, since_start_s);
-      evaluation.record.sweep_id = sweep_id;
-      s_.store.record_sweep_result(evaluation.record);
-      auto summary = evaluation.summary;
-      summary["run_id"] = run_id;
-      summary["sweep"] = sweep_index + 1;
-      s_.notify("sweep.result", summary);
-      if (!evaluation.passed) {
+    for (const auto& alarm : evaluation.alarms) {
+      event(EventLevel::warning, "engine", "drift.alarm", alarm, run_id);
+      if (plan.repeat.fail_on_drift_alarm) {
         all_passed = false;
-        for (const auto& r : evaluation.reasons) failures.push_back(fmt::format("sweep {}: {}", sweep_index + 1, r));
-      }
-      for (const auto& alarm : evaluation.alarms) {
-        event(EventLevel::warning, "engine", "drift.alarm", alarm, run_id);
-        if (plan.repeat.fail_on_drift_alarm) {
-          all_passed = false;
-          failures.push_back(fmt::format("sweep {}: drift alarm: {}", sweep_index + 1, alarm));
-        }
-      }
-      if (!all_passed && plan.repeat.fail_on_drift_alarm && !evaluation.alarms.empty()) break;
-      if (sweep_index + 1 < plan.repeat.count) {
-        const auto next = sweep_start + std::chrono::duration_cast<std::chrono::nanoseconds>(
-                                            std::chrono::duration<double>(plan.repeat.interval_s));
-        if (next > std::chrono::steady_clock::now()) {
-          // Between soak sweeps the drive stays on; the load rests at the first step.
-          apply_step(plan, 0);
-          wait_or_abort(next - std::chrono::steady_clock::now());
-        }
+        failures.push_back(fmt::format("sweep {}: drift alarm: {}", sweep_index + 1, alarm));
       }
     }
-    final_state = all_passed ? RunState::passed : RunState::failed;
-    for (const auto& f : failures) reason += (reason.empty() ? "" : "; ") + f;
+    if (!all_passed && plan.repeat.fail_on_drift_alarm && !evaluation.alarms.empty()) break;
+    if (sweep_index + 1 < plan.repeat.count) {
+      const auto next = sweep_start + std::chrono::duration_cast<std::chrono::nanoseconds>(
+                                          std::chrono::duration<double>(plan.repeat.interval_s));
+      if (next > std::chrono::steady_clock::now()) {
+        // Between soak sweeps the drive stays on; the load rests at the first step (a fault
+        // there is recovered like a step's).
+        with_recovery(ticket, measurer, 0, failures_left, [&](bool recovered) {
+          if (!recovered) apply_step(plan, 0);
+        });
+        wait_or_abort(next - std::chrono::steady_clock::now());
+      }
+    }
+  }
+  Outcome outcome{all_passed ? RunState::passed : RunState::failed, ""};
+  for (const auto& f : failures) outcome.reason += (outcome.reason.empty() ? "" : "; ") + f;
+  return outcome;
+}
+
+RunExecutor::Outcome RunExecutor::stopped_early(std::int64_t run_id) {
+  try {
+    throw;
   } catch (const RunAborted&) {
-    final_state = RunState::aborted;
-    reason = "aborted by request";
+    return {RunState::aborted, "aborted by request"};
   } catch (const SafetyTrip& e) {
     // Safe state first, then the records.
     const auto unsafe = s_.bench.enter_safe_state();
-    final_state = RunState::error;
-    reason = e.what();
     event(EventLevel::error, "engine", "safety.trip", std::string(e.what()) + "; bench put in safe state", run_id);
     for (const auto& line : unsafe) event(EventLevel::error, "engine", "safe_state.failed", line, run_id);
+    return {RunState::error, e.what()};
   } catch (const IoError& e) {
-    final_state = RunState::interrupted;
-    reason = fmt::format("instrument fault past the retry budget: {}", e.what());
-    event(EventLevel::error, "engine", "run.interrupted", reason, run_id);
+    Outcome outcome{RunState::interrupted, fmt::format("instrument fault past the retry budget: {}", e.what())};
+    event(EventLevel::error, "engine", "run.interrupted", outcome.reason, run_id);
+    return outcome;
   } catch (const InstrumentError& e) {
-    final_state = RunState::error;
-    reason = e.what();
+    return {RunState::error, e.what()};
   } catch (const std::exception& e) {
-    final_state = RunState::error;
-    reason = e.what();
-    event(EventLevel::error, "engine", "run.error", reason, run_id);
+    event(EventLevel::error, "engine", "run.error", e.what(), run_id);
+    return {RunState::error, e.what()};
   }
+}
 
+void RunExecutor::finish(std::int64_t run_id, const Outcome& outcome) {
   // Always end in safe state (DEVELOPERS.md, "Run lifecycle").
   for (const auto& line : s_.bench.enter_safe_state()) {
     event(EventLevel::error, "engine", "safe_state.failed", line, run_id);
   }
   try {
-    set_state(run_id, final_state, reason);
+    set_state(run_id, outcome.state, outcome.reason);
   } catch (const std::exception& e) {
     event(EventLevel::error, "engine", "store.failed", e.what(), run_id);
   }
-  return final_state;
+}
+
+RunState RunExecutor::execute(const RunTicket& ticket) {
+  const Plan& plan = ticket.plan;
+  update_progress([&](RunProgress& p) {
+    p = RunProgress{};
+    p.run_id = ticket.run_id;
+    p.sweep_count = plan.repeat.count;
+    p.step_count = static_cast<int>(plan.load.steps.size());
+  });
+  set_state(ticket.run_id, RunState::running, "");
+
+  PointMeasurer measurer(s_.bench, plan, s_.config.safety, s_.abort_requested);
+  int failures_left = s_.recovery.run_budget;
+  Outcome outcome;
+  try {
+    set_up(ticket, measurer, failures_left);
+    outcome = run_sweeps(ticket, measurer, failures_left);
+  } catch (const std::exception&) {
+    outcome = stopped_early(ticket.run_id);
+  }
+  finish(ticket.run_id, outcome);
+  return outcome.state;
 }
 
 }  // namespace zout
