@@ -7,7 +7,6 @@
 #include <iostream>
 
 #include <CLI/CLI.hpp>
-#include <sqlite3.h>
 #include <asio.hpp>
 
 #include "daemon/api/control_methods.h"
@@ -15,6 +14,7 @@
 #include "daemon/engine/engine.h"
 #include "daemon/plan/bench_config.h"
 #include "daemon/plan/config_error.h"
+#include "daemon/store/database.h"
 
 namespace {
 constexpr long long kSqliteHeapLimitBytes = 1 << 20;  // all of zoutd's SQLite memory, soft
@@ -31,7 +31,7 @@ int main(int argc, char** argv) {
   // SQLite's page caches (2 MiB per connection by default, three connections here) would
   // otherwise fill as the database grows and read as a slow RSS climb over a long soak; the
   // writes only append, so a small shared budget costs nothing (scripts/bench-sweep measures it).
-  sqlite3_soft_heap_limit64(kSqliteHeapLimitBytes);
+  zout::store::limit_process_memory_bytes(kSqliteHeapLimitBytes);
 
   try {
     const zout::BenchConfig bench = zout::load_bench_file(bench_path);

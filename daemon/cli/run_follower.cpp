@@ -155,7 +155,7 @@ void RunFollower::print_sweep(std::int64_t id, const json& r) {
   }
   line += fmt::format("  → {}", r.value("verdict", "?"));
   out_ << line << "\n";
-  for (const auto& reason : r.value("reasons", json::array())) out_ << "    reason: " << reason.get<std::string>() << "\n";
+  for (const auto& reason : r.value("verdict_reasons", json::array())) out_ << "    reason: " << reason.get<std::string>() << "\n";
   for (const auto& alarm : r.value("alarms", json::array())) out_ << "    drift alarm: " << alarm.get<std::string>() << "\n";
 }
 

@@ -4,6 +4,7 @@
 
 #include "daemon/engine/bench_connection.h"
 #include "daemon/engine/run_state_notice.h"
+#include "daemon/plan/bounded_json.h"
 #include "daemon/plan/config_error.h"
 #include "daemon/plan/safety_check.h"
 #include "daemon/store/store_error.h"
@@ -118,25 +119,17 @@ bool Engine::ensure_bench_connected(std::optional<std::int64_t> run_id) {
 
 std::optional<RunTicket> Engine::next_ticket() {
   for (;;) {
+    const auto queued = engine_store_->next_queued_run(station_id_);
+    if (!queued) return std::nullopt;
     RunTicket ticket;
-    std::string plan_json;
-    {
-      auto use = engine_store_->database().cached(
-          "SELECT r.run_id, p.name, p.content_json, u.serial, r.slot, r.operator, r.note "
-          "FROM run r JOIN plan p ON p.plan_id = r.plan_id JOIN unit u ON u.unit_id = r.unit_id "
-          "WHERE r.state = 'queued' AND r.station_id = :station ORDER BY r.run_id LIMIT 1");
-      use->bind_int(":station", station_id_);
-      if (!use->step()) return std::nullopt;
-      ticket.run_id = use->column_int(0);
-      ticket.plan_origin = fmt::format("plan \"{}\" of run {}", use->column_text(1), ticket.run_id);
-      plan_json = use->column_text(2);
-      ticket.unit_serial = use->column_text(3);
-      if (!use->is_null(4)) ticket.slot = static_cast<int>(use->column_int(4));
-      ticket.operator_name = use->column_text(5);
-      ticket.note = use->column_text(6);
-    }
+    ticket.run_id = queued->run_id;
+    ticket.plan_origin = fmt::format("plan \"{}\" of run {}", queued->plan_name, ticket.run_id);
+    ticket.unit_serial = queued->serial;
+    ticket.slot = queued->slot;
+    ticket.operator_name = queued->operator_name;
+    ticket.note = queued->note;
     try {
-      ticket.plan = parse_plan(nlohmann::json::parse(plan_json), ticket.plan_origin);
+      ticket.plan = parse_plan(parse_bounded_json(queued->plan_json), ticket.plan_origin);
       return ticket;
     } catch (const std::exception& e) {
       // A stored plan this version cannot run must not block the queue behind it.

@@ -232,14 +232,14 @@ RunExecutor::Outcome RunExecutor::run_sweeps(const RunTicket& ticket, PointMeasu
     const double since_start_s = std::chrono::duration<double>(sweep_start - first_sweep_start).count();
     SweepEvaluation evaluation = evaluate_sweep(plan, points, history, since_start_s);
     evaluation.record.sweep_id = sweep_id;
+    evaluation.record.sweep = sweep_index + 1;
     s_.store.record_sweep_result(evaluation.record);
-    auto summary = evaluation.summary;
-    summary["run_id"] = run_id;
-    summary["sweep"] = sweep_index + 1;
-    s_.notify("sweep.result", summary);
+    s_.notify("sweep.result", evaluation.notification(run_id));
     if (!evaluation.passed) {
       all_passed = false;
-      for (const auto& r : evaluation.reasons) failures.push_back(fmt::format("sweep {}: {}", sweep_index + 1, r));
+      for (const auto& r : evaluation.record.verdict_reasons) {
+        failures.push_back(fmt::format("sweep {}: {}", sweep_index + 1, r));
+      }
     }
     for (const auto& alarm : evaluation.alarms) {
       event(EventLevel::warning, "engine", "drift.alarm", alarm, run_id);

@@ -1,9 +1,13 @@
 #include "sweep_evaluation.h"
 
 #include <fmt/format.h>
+#include <nlohmann/json.hpp>
 
 #include "daemon/analysis/cascade_model.h"
 #include "daemon/analysis/sweep_analysis.h"
+#include "daemon/store/sweep_figures.h"
+#include "daemon/text/quantity_names.h"
+#include "daemon/text/si_text.h"
 
 namespace zout {
 namespace {
@@ -16,7 +20,6 @@ std::optional<double> opt(const analysis::Computed<analysis::Estimate>& c) {
   return c.has_value() ? std::optional<double>(c.value().value) : std::nullopt;
 }
 
-nlohmann::json json_of(const std::optional<double>& v) { return v ? nlohmann::json(*v) : nlohmann::json(); }
 
 }  // namespace
 
@@ -70,16 +73,10 @@ SweepEvaluation evaluate_sweep(const Plan& plan, const std::vector<MeasuredPoint
                                                               plan.source.frequency_hz, plan.dut.capacitance_farads);
     r.model_ripple_rated_pp_volts = analysis::predicted_ripple_pp_volts(
         plan.dut.stages, result.rated_amps, plan.source.frequency_hz, plan.dut.capacitance_farads);
-    // The AC RMS of the point nearest the rated load.
-    const MeasuredPoint* nearest = nullptr;
-    for (const auto& p : points) {
-      if (!nearest || std::abs(p.load_amps - result.rated_amps) < std::abs(nearest->load_amps - result.rated_amps)) {
-        nearest = &p;
-      }
-    }
-    if (nearest) r.ripple_rated_rms_volts = nearest->ripple_rms_volts;
   }
+  // Both ripple figures come from the same points, those of the rated step (analysis/rated_step.h).
   r.ripple_rated_pp_volts = opt(result.ripple_pp_volts_at_rated);
+  r.ripple_rated_rms_volts = opt(result.ripple_rms_volts_at_rated);
   r.model_v_oc_volts = analysis::ideal_open_circuit_volts(plan.dut.stages, plan.source.amplitude_volts_peak);
   r.model_z_out_ohms = result.model_source_ohms;
 
@@ -105,19 +102,22 @@ SweepEvaluation evaluate_sweep(const Plan& plan, const std::vector<MeasuredPoint
     r.ripple_drift_stderr_volts_per_hour = slope_stderr(drift.ripple_pp_volts);
 
     const std::size_t newest = history.size() - 1;
-    const auto check_band = [&](const analysis::SeriesDrift& s, const char* name, std::optional<double> value) {
+    const auto check_band = [&](const analysis::SeriesDrift& s, const std::string& name, const char* unit,
+                                std::optional<double> value) {
       if (!s.band || !value) return;
       if (*value < s.band->lower || *value > s.band->upper) {
-        out.alarms.push_back(fmt::format("{} {:.6g} outside its control band [{:.6g}, {:.6g}] (mean ± {:g}σ of "
-                                         "the first {} sweeps) at sweep {}",
-                                         name, *value, s.band->lower, s.band->upper, plan.repeat.band_sigma,
+        out.alarms.push_back(fmt::format("{} {} outside its control band [{}, {}] (mean ± {:g}σ of the first {} "
+                                         "sweeps) at sweep {}",
+                                         name, text::si_text(*value, unit), text::si_text(s.band->lower, unit),
+                                         text::si_text(s.band->upper, unit), plan.repeat.band_sigma,
                                          s.band->baseline_points, newest + 1));
       }
     };
     if (history.size() > static_cast<std::size_t>(plan.repeat.baseline_sweeps)) {
-      check_band(drift.v_oc_volts, "v_oc_volts", r.v_oc_volts);
-      check_band(drift.z_out_ohms, "z_out_ohms", r.z_out_ohms);
-      check_band(drift.ripple_pp_volts, "ripple_pp_volts", r.ripple_rated_pp_volts);
+      check_band(drift.v_oc_volts, text::quantity::v_oc, "V", r.v_oc_volts);
+      check_band(drift.z_out_ohms, text::quantity::z_out, "Ω", r.z_out_ohms);
+      check_band(drift.ripple_pp_volts, std::string(text::quantity::ripple_pp) + " at rated load", "V",
+                 r.ripple_rated_pp_volts);
     }
     analysis::DriftFigures figures;
     if (drift.v_oc_volts.slope) figures.v_oc_volts_per_hour = analysis::Computed<double>::of(drift.v_oc_volts.slope->per_hour.value);
@@ -131,26 +131,16 @@ SweepEvaluation evaluate_sweep(const Plan& plan, const std::vector<MeasuredPoint
   out.passed = verdict.passed;
   r.verdict = verdict.passed ? store::Verdict::pass : store::Verdict::fail;
   for (const auto& check : verdict.checks) {
-    if (!check.passed) {
-      out.reasons.push_back(check.reason);
-      r.verdict_reasons.push_back(check.reason);
-    }
+    if (!check.passed) r.verdict_reasons.push_back(check.reason);
   }
-  out.summary = {{"v_oc_volts", json_of(r.v_oc_volts)},
-                 {"z_out_ohms", json_of(r.z_out_ohms)},
-                 {"z_out_stderr_ohms", json_of(r.z_out_stderr_ohms)},
-                 {"cascade_r_ohms", json_of(r.cascade_r_ohms)},
-                 {"effective_capacitance_farads", json_of(r.effective_capacitance_farads)},
-                 {"diode_drop_volts", json_of(r.diode_drop_volts)},
-                 {"ripple_rated_pp_volts", json_of(r.ripple_rated_pp_volts)},
-                 {"model_z_out_ohms", json_of(r.model_z_out_ohms)},
-                 {"v_oc_drift_volts_per_hour", json_of(r.v_oc_drift_volts_per_hour)},
-                 {"z_out_drift_ohms_per_hour", json_of(r.z_out_drift_ohms_per_hour)},
-                 {"ripple_drift_volts_per_hour", json_of(r.ripple_drift_volts_per_hour)},
-                 {"verdict", out.passed ? "pass" : "fail"},
-                 {"reasons", out.reasons},
-                 {"alarms", out.alarms}};
   return out;
+}
+
+nlohmann::json SweepEvaluation::notification(std::int64_t run_id) const {
+  nlohmann::json params = store::sweep_result_json(record);
+  params["run_id"] = run_id;
+  params["alarms"] = alarms;
+  return params;
 }
 
 }  // namespace zout

@@ -6,7 +6,7 @@
 #include <string>
 #include <vector>
 
-#include <nlohmann/json.hpp>
+#include <nlohmann/json_fwd.hpp>
 
 #include "daemon/analysis/drift.h"
 #include "daemon/analysis/verdict.h"
@@ -17,11 +17,14 @@
 namespace zout {
 
 struct SweepEvaluation {
-  store::SweepResultRecord record;  // sweep_id left 0 for the caller to fill
+  store::SweepResultRecord record;  // sweep_id and sweep left 0 for the caller to fill; reasons in record.verdict_reasons
   bool passed = false;
-  std::vector<std::string> reasons;  // failed limits, plain sentences
-  std::vector<std::string> alarms;   // soak: the newest sweep's values outside their control band
-  nlohmann::json summary;            // the sweep.result notification's figures
+  std::vector<std::string> alarms;  // soak: the newest sweep's values outside their control band
+
+  // The sweep.result notification: the record as the store writes it as JSON
+  // (store::sweep_result_json: every figure by its column, verdict, verdict_reasons), with
+  // run_id and alarms.
+  nlohmann::json notification(std::int64_t run_id) const;
 };
 
 // Evaluates the sweep whose points are `points` (in step order), taken `seconds_since_start`

@@ -47,14 +47,14 @@ TEST_CASE("evaluate_sweep: a straight-line unit gives its V_oc and Z_out and pas
   REQUIRE(e.record.ripple_rated_rms_volts.value() == Approx(0.04));
   REQUIRE(e.record.sweep_id == 0);  // the caller fills it
   REQUIRE(e.passed);
-  REQUIRE(e.reasons.empty());
+  REQUIRE(e.record.verdict_reasons.empty());
   REQUIRE(e.alarms.empty());
   REQUIRE(e.record.verdict == store::Verdict::pass);
-  REQUIRE(e.summary.at("verdict") == "pass");
-  REQUIRE(e.summary.at("v_oc_volts").get<double>() == Approx(380.0).epsilon(1e-9));
-  REQUIRE(e.summary.at("z_out_ohms").get<double>() == Approx(200e3).epsilon(1e-6));
+  REQUIRE(e.notification(1).at("verdict") == "pass");
+  REQUIRE(e.notification(1).at("v_oc_volts").get<double>() == Approx(380.0).epsilon(1e-9));
+  REQUIRE(e.notification(1).at("z_out_ohms").get<double>() == Approx(200e3).epsilon(1e-6));
   // Not a soak: no drift figures, but the sweep joins the history all the same.
-  REQUIRE(e.summary.at("v_oc_drift_volts_per_hour").is_null());
+  REQUIRE(e.notification(1).at("v_oc_drift_volts_per_hour").is_null());
   REQUIRE(history.size() == 1);
   REQUIRE(history[0].v_oc_volts.value() == Approx(380.0).epsilon(1e-9));
 }
@@ -66,11 +66,10 @@ TEST_CASE("evaluate_sweep: a V_oc under the minimum and a Z_out over the maximum
   const SweepEvaluation e = evaluate_sweep(plan, linear_sweep(plan, 365.0, 300e3), history, 0.0);
   REQUIRE_FALSE(e.passed);
   REQUIRE(e.record.verdict == store::Verdict::fail);
-  REQUIRE(e.reasons.size() == 2);
-  REQUIRE(e.record.verdict_reasons == e.reasons);
-  REQUIRE(e.reasons == std::vector<std::string>{"V_oc 365.0 V < 370 V min", "Z_out 300 kΩ > 250 kΩ max"});
-  REQUIRE(e.summary.at("verdict") == "fail");
-  REQUIRE(e.summary.at("reasons") == nlohmann::json(e.reasons));
+  REQUIRE(e.record.verdict_reasons.size() == 2);
+  REQUIRE(e.record.verdict_reasons == std::vector<std::string>{"V_oc 365.0 V < 370 V min", "Z_out 300 kΩ > 250 kΩ max"});
+  REQUIRE(e.notification(1).at("verdict") == "fail");
+  REQUIRE(e.notification(1).at("verdict_reasons") == nlohmann::json(e.record.verdict_reasons));
 }
 
 TEST_CASE("evaluate_sweep: a soak sweep outside the baseline's control band raises an alarm", "[engine]") {
@@ -95,9 +94,9 @@ TEST_CASE("evaluate_sweep: a soak sweep outside the baseline's control band rais
   SECTION("V_oc outside the band: one alarm naming it; the verdict is still the limits'") {
     const auto third = evaluate_sweep(plan, linear_sweep(plan, 381.0, 200.5e3, 0.0405), history, 1200.0);
     REQUIRE(third.alarms.size() == 1);
-    REQUIRE_THAT(third.alarms[0], Catch::StartsWith("v_oc_volts 381 outside its control band") &&
+    REQUIRE_THAT(third.alarms[0], Catch::StartsWith("V_oc 381.0 V outside its control band [380.0 V, 380.1 V]") &&
                                       Catch::Contains("at sweep 3"));
     REQUIRE(third.passed);  // fail_on_drift_alarm is the executor's business
-    REQUIRE(third.summary.at("alarms") == nlohmann::json(third.alarms));
+    REQUIRE(third.notification(1).at("alarms") == nlohmann::json(third.alarms));
   }
 }
