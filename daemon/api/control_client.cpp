@@ -68,7 +68,18 @@ std::optional<nlohmann::json> ControlClient::read_message(std::chrono::steady_cl
 }
 
 nlohmann::json ControlClient::call_raw(const std::string& line, std::chrono::milliseconds timeout) {
-  send_line(line);
+  try {
+    send_line(line);
+  } catch (const std::runtime_error&) {
+    // zoutd may have refused the connection (too many clients) and closed it before this line
+    // went out: its one-line refusal is then waiting to be read, and says more than EPIPE.
+    try {
+      if (auto refusal = read_message(std::chrono::steady_clock::now() + std::chrono::milliseconds(200))) return *refusal;
+    } catch (const std::exception&) {
+      // nothing was waiting
+    }
+    throw;
+  }
   const auto deadline = std::chrono::steady_clock::now() + timeout;
   for (;;) {
     auto message = read_message(deadline);
