@@ -79,7 +79,7 @@ nlohmann::json ControlMethods::run_start(const nlohmann::json& params) {
     if (inline_plan && !inline_plan->json().is_object()) inline_plan->fail("must be an object (a plan)");
     for (JsonReader unit : p.member("units").elements(1, 1000)) {
       UnitRequest request;
-      request.serial = unit.member("serial").string();
+      request.serial = unit.member("serial").name();
       if (auto slot = unit.optional_member("slot")) request.slot = static_cast<int>(slot->integer(1, 10'000));
       unit.refuse_unknown_keys();
       s.units.push_back(request);

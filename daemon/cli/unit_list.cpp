@@ -41,7 +41,7 @@ std::vector<UnitOnBench> load_panel_file(const std::string& path) {
     UnitOnBench unit;
     const long long slot = entry.member("slot").integer(1, 10'000);
     unit.slot = static_cast<int>(slot);
-    unit.serial = entry.member("serial").string();
+    unit.serial = entry.member("serial").name();
     entry.refuse_unknown_keys();
     if (!slots.insert(slot).second) entry.member("slot").fail(fmt::format("slot {} appears twice", slot));
     if (!serials.insert(unit.serial).second) {

@@ -54,7 +54,7 @@ BenchConfig load_bench_file(const std::string& file_path) {
 
   BenchConfig bench;
   bench.file_path = file_path;
-  bench.station = root.member("station").string();
+  bench.station = root.member("station").name();
   bench.database_path = resolve(base_dir, root.member("database").string());
   JsonReader control = root.member("control");
   bench.control_socket_path = resolve(base_dir, control.member("socket").string());

@@ -137,6 +137,16 @@ std::string JsonReader::string(bool allow_empty) const {
   return s;
 }
 
+std::string JsonReader::name(std::size_t max_characters) const {
+  std::string s = string();
+  std::size_t characters = 0;
+  for (const unsigned char c : s) characters += (c & 0xC0) != 0x80;  // UTF-8 code points
+  if (characters > max_characters) {
+    fail(fmt::format("is {} characters long; at most {} are allowed", characters, max_characters));
+  }
+  return s;
+}
+
 std::string JsonReader::choice(const std::vector<std::string>& choices) const {
   const std::string s = string();
   for (const auto& c : choices) {

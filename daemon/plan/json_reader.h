@@ -49,6 +49,10 @@ class JsonReader {
   long long integer(long long min, long long max) const;
   bool boolean() const;
   std::string string(bool allow_empty = false) const;
+  // A non-empty string of at most `max_characters` UTF-8 characters: a name the store keeps
+  // (a plan's, a station's, a unit's serial; the schema allows max_name_characters).
+  std::string name(std::size_t max_characters = max_name_characters) const;
+  static constexpr std::size_t max_name_characters = 200;
   // A string that must be one of `choices`.
   std::string choice(const std::vector<std::string>& choices) const;
 

@@ -135,7 +135,7 @@ RepeatSpec read_repeat(JsonReader node) {
 Plan parse_plan(const nlohmann::json& document, const std::string& origin) {
   JsonReader root(document, "plan", origin);
   Plan plan;
-  plan.name = root.member("name").string();
+  plan.name = root.member("name").name();
   plan.dut = read_dut(root.member("dut"));
   plan.source = read_source(root.member("source"));
   plan.load = read_load(root.member("load"));

@@ -117,3 +117,20 @@ TEST_CASE("plan and bench files: only regular files, bounded in size and depth, 
   const auto big = write("big.json", "[" + std::string(JsonReader::max_file_bytes, ' ') + "]");
   CHECK_THROWS_WITH(load_plan_file(big), Catch::Contains("larger than"));
 }
+
+TEST_CASE("a plan name, station name or serial the store could not keep is refused when the file loads", "[plan][hardening]") {
+  // The schema keeps names of 1 to 200 characters (schema/001_tables.sql: length(name) BETWEEN 1 AND 200).
+  const json at_limit = std::string(200, 'n');
+  const json over = std::string(201, 'n');
+  const json ten_megabytes = std::string(10'000'000, 'n');
+  CHECK(JsonReader(at_limit, "plan.name", "p.json").name() == at_limit.get<std::string>());
+  {
+    std::string omegas;
+    for (int i = 0; i < 200; ++i) omegas += "Ω";  // 200 characters, 400 bytes
+    CHECK(JsonReader(json(omegas), "plan.name", "p.json").name() == omegas);
+  }
+  CHECK_THROWS_WITH(JsonReader(over, "plan.name", "p.json").name(),
+                    Catch::Contains("p.json: plan.name: is 201 characters long; at most 200"));
+  CHECK_THROWS_AS(JsonReader(ten_megabytes, "plan.name", "p.json").name(), ConfigError);
+  CHECK_THROWS_AS(JsonReader(json(""), "plan.name", "p.json").name(), ConfigError);
+}
